@@ -1,0 +1,19 @@
+"""The review engine: pure functions from a design file to a report.
+
+Imports nothing from the web app or the database.
+"""
+
+ENGINE_VERSION = "1.0.0"
+
+from .design import DESIGN_FORMAT, Design, DesignError, parse_design  # noqa: E402
+from .review import REPORT_FORMAT, evaluate  # noqa: E402
+
+__all__ = [
+    "DESIGN_FORMAT",
+    "ENGINE_VERSION",
+    "REPORT_FORMAT",
+    "Design",
+    "DesignError",
+    "evaluate",
+    "parse_design",
+]

@@ -1,0 +1,107 @@
+"""Worst-case corners: every combination of the extremes of each varying parameter.
+
+With k parameters that vary there are 2**k corners; each parameter becomes one numpy array
+of length 2**k, so every rule is evaluated over all corners at once. The nominal corner is a
+separate set of arrays of length 1.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .design import Design, DiodeResistorClamp, DiodeZenerClamp, DividerDrive, ResistorClamp
+
+
+@dataclass(frozen=True)
+class Factor:
+    """One parameter that varies between two extremes; ``unit`` for describing a corner."""
+
+    name: str
+    low: float
+    high: float
+    unit: str
+
+
+@dataclass(frozen=True)
+class Corners:
+    factors: tuple[Factor, ...]
+    values: dict[str, np.ndarray]
+    size: int
+
+    def describe(self, index: int) -> dict[str, float]:
+        """The parameter values of one corner, for a finding's ``corner``."""
+        return {name: float(f"{array[index]:.12g}") for name, array in self.values.items()}
+
+    def __getitem__(self, name: str) -> np.ndarray:
+        return self.values[name]
+
+
+def _spread(nominal: float, tolerance: float) -> tuple[float, float]:
+    return nominal * (1 - tolerance), nominal * (1 + tolerance)
+
+
+def factors(design: Design) -> list[Factor]:
+    """The parameters of this design that vary, with their low and high extremes."""
+    out = [
+        Factor("supply", design.supply.low, design.supply.high, "V"),
+        Factor("ambient", design.ambient.min, design.ambient.max, "°C"),
+        Factor("r_coil", *_spread(design.coil.r_coil, design.coil.tolerance), "Ω"),
+        Factor("r_series", *_spread(design.base.r_series, design.base.tolerance), "Ω"),
+    ]
+    if design.base.r_pulldown is not None:
+        out.append(Factor("r_pulldown", *_spread(design.base.r_pulldown, design.base.tolerance), "Ω"))
+    drive = design.drive
+    if isinstance(drive, DividerDrive):
+        out.append(Factor("r_fixed", *_spread(drive.r_fixed, drive.tolerance), "Ω"))
+        out.append(Factor("sensor_scale", 1 - drive.tolerance, 1 + drive.tolerance, ""))
+    else:
+        out.append(Factor("drive_on", drive.high_min, drive.high, "V"))
+        out.append(Factor("drive_off", drive.low, drive.low_max, "V"))
+    clamp = design.clamp
+    if isinstance(clamp, DiodeZenerClamp):
+        out.append(Factor("vz", *_spread(clamp.zener.vz, clamp.zener.tolerance), "V"))
+    if isinstance(clamp, (DiodeResistorClamp, ResistorClamp)):
+        out.append(Factor("r_clamp", *_spread(clamp.r, clamp.tolerance), "Ω"))
+    return out
+
+
+def worst_corners(design: Design) -> Corners:
+    all_factors = factors(design)
+    # A factor whose extremes coincide would double the corners and add nothing.
+    varying = [f for f in all_factors if f.low != f.high]
+    fixed = [f for f in all_factors if f.low == f.high]
+    size = 2 ** len(varying)
+    bits = (np.arange(size)[:, None] >> np.arange(len(varying))[None, :]) & 1
+    values = {}
+    for j, factor in enumerate(varying):
+        values[factor.name] = np.where(bits[:, j] == 1, factor.high, factor.low).astype(float)
+    for factor in fixed:
+        values[factor.name] = np.full(size, factor.low, dtype=float)
+    return Corners(tuple(all_factors), values, size)
+
+
+def nominal_corner(design: Design) -> Corners:
+    """Nominal supply and tolerances, 25 °C clamped into the ambient range."""
+    ambient = min(max(25.0, design.ambient.min), design.ambient.max)
+    values = {
+        "supply": design.supply.nominal,
+        "ambient": ambient,
+        "r_coil": design.coil.r_coil,
+        "r_series": design.base.r_series,
+    }
+    if design.base.r_pulldown is not None:
+        values["r_pulldown"] = design.base.r_pulldown
+    if isinstance(design.drive, DividerDrive):
+        values["r_fixed"] = design.drive.r_fixed
+        values["sensor_scale"] = 1.0
+    else:
+        values["drive_on"] = design.drive.high
+        values["drive_off"] = design.drive.low
+    if isinstance(design.clamp, DiodeZenerClamp):
+        values["vz"] = design.clamp.zener.vz
+    if isinstance(design.clamp, (DiodeResistorClamp, ResistorClamp)):
+        values["r_clamp"] = design.clamp.r
+    arrays = {k: np.array([float(v)]) for k, v in values.items()}
+    return Corners((), arrays, 1)

@@ -1,0 +1,469 @@
+"""The design file, format "clampdown-design/1": pydantic models that validate and normalise it.
+
+Every number ends up in SI base units (V, A, Ω, H, F, W, s, °C, K/W); tolerances end up as
+fractions (10 % -> 0.10). The part models (Transistor, Coil, Diode, Zener, Tvs) are used on
+their own by the parts library, so a part is validated the same way everywhere.
+"""
+
+from __future__ import annotations
+
+from typing import Annotated, Any, Literal
+
+from pydantic import (
+    BaseModel,
+    BeforeValidator,
+    ConfigDict,
+    Discriminator,
+    Field,
+    Tag,
+    ValidationError,
+    model_validator,
+)
+from pydantic_core import PydanticCustomError
+
+from .units import UnitError, parse_percent, parse_quantity
+
+DESIGN_FORMAT = "clampdown-design/1"
+
+
+def _quantity(unit: str, *, positive: bool = False, nonnegative: bool = False):
+    def parse(value: Any) -> float:
+        try:
+            number = parse_quantity(value, unit)
+        except UnitError as exc:
+            raise PydanticCustomError("quantity", str(exc)) from None
+        if positive and not number > 0:
+            raise PydanticCustomError("quantity", "must be positive")
+        if nonnegative and number < 0:
+            raise PydanticCustomError("quantity", "must be zero or positive")
+        return number
+
+    return BeforeValidator(parse)
+
+
+def _tolerance(value: Any) -> float:
+    try:
+        fraction = parse_percent(value)
+    except UnitError as exc:
+        raise PydanticCustomError("tolerance", str(exc)) from None
+    if not 0 <= fraction < 1:
+        raise PydanticCustomError("tolerance", "must be a percentage from 0 up to (not including) 100")
+    return fraction
+
+
+def _fraction(value: Any) -> float:
+    try:
+        number = (
+            parse_quantity(value.rstrip("%"), "") / 100
+            if isinstance(value, str) and value.strip().endswith("%")
+            else parse_quantity(value, "")
+        )
+    except UnitError as exc:
+        raise PydanticCustomError("fraction", str(exc)) from None
+    if not 0 < number <= 1:
+        raise PydanticCustomError("fraction", "must be a fraction above 0 and at most 1 (or a percentage)")
+    return number
+
+
+Volts = Annotated[float, _quantity("V")]
+PositiveVolts = Annotated[float, _quantity("V", positive=True)]
+NonNegativeVolts = Annotated[float, _quantity("V", nonnegative=True)]
+PositiveAmps = Annotated[float, _quantity("A", positive=True)]
+Ohms = Annotated[float, _quantity("Ω", positive=True)]
+NonNegativeOhms = Annotated[float, _quantity("Ω", nonnegative=True)]
+Henries = Annotated[float, _quantity("H", positive=True)]
+Watts = Annotated[float, _quantity("W", positive=True)]
+Seconds = Annotated[float, _quantity("s", positive=True)]
+Celsius = Annotated[float, _quantity("°C")]
+KelvinPerWatt = Annotated[float, _quantity("K/W", positive=True)]
+Ratio = Annotated[float, _quantity("", positive=True)]
+Tolerance = Annotated[float, BeforeValidator(_tolerance)]
+Fraction = Annotated[float, BeforeValidator(_fraction)]
+
+
+class Model(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True, str_strip_whitespace=True)
+
+
+def _problem(message: str) -> PydanticCustomError:
+    return PydanticCustomError("design", message)
+
+
+# ---------------------------------------------------------------- parts
+
+
+class Transistor(Model):
+    """An NPN bipolar transistor, with the datasheet's guaranteed (worst-case) figures."""
+
+    kind: Literal["npn"] = "npn"
+    name: str = Field(min_length=1, max_length=200)
+    hfe_min: Ratio = Field(description="minimum DC current gain h_FE over the operating range")
+    vbe_sat: PositiveVolts = Field(description="V_BE(sat), maximum")
+    vce_sat: NonNegativeVolts = Field(description="V_CE(sat), maximum")
+    vbe_on: PositiveVolts = Field(description="V_BE(on) turn-on voltage at 25 °C")
+    vceo: PositiveVolts = Field(description="V_(BR)CEO, minimum collector-emitter breakdown")
+    vebo: PositiveVolts = Field(description="V_(BR)EBO, minimum emitter-base breakdown")
+    ic_max: PositiveAmps = Field(description="continuous collector current rating")
+    p_max: Watts = Field(description="total dissipation rating at 25 °C ambient")
+    rth_ja: KelvinPerWatt = Field(description="junction-to-ambient thermal resistance")
+    tj_max: Celsius = Field(description="maximum junction temperature")
+
+    @model_validator(mode="after")
+    def _consistent(self) -> Transistor:
+        if self.tj_max <= 25:
+            raise _problem("tj_max must be above 25 °C")
+        return self
+
+
+class Coil(Model):
+    """A relay or solenoid coil."""
+
+    name: str = Field(min_length=1, max_length=200)
+    v_nominal: PositiveVolts
+    r_coil: Ohms = Field(description="coil resistance at r_at")
+    tolerance: Tolerance = Field(description="coil resistance tolerance, percent")
+    r_at: Celsius = Field(20.0, description="temperature at which r_coil and v_pickup hold")
+    inductance: Henries
+    v_pickup: PositiveVolts = Field(description="must-operate voltage at r_at")
+    v_dropout: PositiveVolts = Field(description="must-release (drop-out) voltage at r_at")
+    v_max: PositiveVolts = Field(description="maximum continuous coil voltage")
+    rth: KelvinPerWatt | None = Field(None, description="coil thermal resistance to ambient")
+
+    @model_validator(mode="after")
+    def _consistent(self) -> Coil:
+        if self.v_dropout >= self.v_pickup:
+            raise _problem(f"v_dropout ({self.v_dropout:g} V) must be below v_pickup ({self.v_pickup:g} V)")
+        if self.v_pickup > self.v_max:
+            raise _problem(f"v_pickup ({self.v_pickup:g} V) must not exceed v_max ({self.v_max:g} V)")
+        return self
+
+
+class Diode(Model):
+    """A rectifier diode. I_S, n and R_S are the SPICE diode parameters; I_S is fitted from
+    the (vf, vf_at) point when absent."""
+
+    name: str = Field(min_length=1, max_length=200)
+    vrrm: PositiveVolts = Field(description="repetitive peak reverse voltage rating")
+    if_avg: PositiveAmps = Field(description="average forward current rating")
+    i_peak: PositiveAmps = Field(description="repetitive / surge peak forward current rating")
+    vf: PositiveVolts = Field(description="forward voltage at vf_at")
+    vf_at: PositiveAmps = Field(description="current at which vf is specified")
+    is_: Annotated[float, _quantity("A", positive=True)] | None = Field(
+        None, alias="is", description="SPICE saturation current I_S"
+    )
+    n: Ratio | None = Field(None, description="SPICE emission coefficient")
+    rs: NonNegativeOhms | None = Field(None, description="SPICE series resistance")
+
+    model_config = ConfigDict(extra="forbid", frozen=True, populate_by_name=True)
+
+    @model_validator(mode="after")
+    def _consistent(self) -> Diode:
+        if self.rs is not None and self.rs * self.vf_at >= self.vf:
+            raise _problem("rs × vf_at must be below vf (the junction needs some forward voltage)")
+        return self
+
+
+class Zener(Model):
+    """A zener in series with the clamp diode. vz is specified at i_test (I_ZT)."""
+
+    vz: PositiveVolts
+    tolerance: Tolerance
+    rz: NonNegativeOhms = Field(description="dynamic resistance")
+    p_max: Watts
+    i_test: PositiveAmps = Field(0.005, description="test current I_ZT at which vz holds")
+
+
+class Tvs(Model):
+    """A TVS diode from the switch node to ground."""
+
+    v_breakdown: PositiveVolts = Field(description="minimum breakdown voltage V_BR at i_test")
+    v_clamp: PositiveVolts = Field(description="maximum clamping voltage at i_clamp")
+    i_clamp: PositiveAmps = Field(description="peak pulse current at which v_clamp holds")
+    p_max: Watts = Field(description="peak pulse power rating")
+    i_test: PositiveAmps = Field(0.001, description="test current I_T at which v_breakdown holds")
+
+    @model_validator(mode="after")
+    def _consistent(self) -> Tvs:
+        if self.v_clamp <= self.v_breakdown:
+            raise _problem("v_clamp must be above v_breakdown")
+        if self.i_clamp <= self.i_test:
+            raise _problem("i_clamp must be above i_test")
+        return self
+
+
+# ---------------------------------------------------------------- circuit
+
+
+class Supply(Model):
+    nominal: PositiveVolts
+    tolerance: Tolerance | None = None
+    min: PositiveVolts | None = None
+    max: PositiveVolts | None = None
+
+    @model_validator(mode="after")
+    def _range(self) -> Supply:
+        if self.tolerance is None and (self.min is None or self.max is None):
+            raise _problem("give either tolerance or both min and max")
+        if self.tolerance is not None and (self.min is not None or self.max is not None):
+            raise _problem("give either tolerance or min and max, not both")
+        if not self.low <= self.nominal <= self.high:
+            raise _problem(f"nominal ({self.nominal:g} V) must lie between min and max")
+        return self
+
+    @property
+    def low(self) -> float:
+        return self.min if self.min is not None else self.nominal * (1 - (self.tolerance or 0))
+
+    @property
+    def high(self) -> float:
+        return self.max if self.max is not None else self.nominal * (1 + (self.tolerance or 0))
+
+
+class Ambient(Model):
+    min: Celsius
+    max: Celsius
+
+    @model_validator(mode="after")
+    def _range(self) -> Ambient:
+        if self.min > self.max:
+            raise _problem(f"min ({self.min:g} °C) must not be above max ({self.max:g} °C)")
+        return self
+
+
+class LogicDrive(Model):
+    """A logic output: high/low levels (open circuit), output resistance, source current limit."""
+
+    kind: Literal["logic"]
+    high: Volts
+    high_min: Volts
+    low: Volts
+    low_max: Volts
+    r_out: NonNegativeOhms
+    i_max: PositiveAmps
+
+    @model_validator(mode="after")
+    def _levels(self) -> LogicDrive:
+        if self.high_min > self.high:
+            raise _problem("high_min must not be above high")
+        if self.low > self.low_max:
+            raise _problem("low must not be above low_max")
+        if self.low_max >= self.high_min:
+            raise _problem("low_max must be below high_min")
+        return self
+
+
+class DividerDrive(Model):
+    """A resistive divider with a sensor; "on" is the sensor state that energises the coil.
+    Without v_source the divider is fed from the supply (and follows its tolerance)."""
+
+    kind: Literal["divider"]
+    v_source: PositiveVolts | None = None
+    r_fixed: Ohms
+    sensor_position: Literal["top", "bottom"]
+    r_sensor_on: Ohms
+    r_sensor_off: Ohms
+    tolerance: Tolerance = Field(description="tolerance of the fixed resistor and the sensor")
+
+
+Drive = Annotated[LogicDrive | DividerDrive, Field(discriminator="kind")]
+
+
+class Base(Model):
+    r_series: Ohms
+    r_pulldown: Ohms | None = None
+    tolerance: Tolerance
+    power_rating: Watts
+
+
+class NoClamp(Model):
+    kind: Literal["none"]
+
+
+class DiodeClamp(Model):
+    kind: Literal["diode"]
+    diode: Diode
+
+
+class DiodeZenerClamp(Model):
+    kind: Literal["diode_zener"]
+    diode: Diode
+    zener: Zener
+
+
+class DiodeResistorClamp(Model):
+    kind: Literal["diode_resistor"]
+    diode: Diode
+    r: Ohms
+    tolerance: Tolerance = Field(0.0, description="resistor tolerance, percent")
+
+
+class ResistorClamp(Model):
+    kind: Literal["resistor"]
+    r: Ohms
+    tolerance: Tolerance = Field(0.0, description="resistor tolerance, percent")
+
+
+class TvsClamp(Model):
+    kind: Literal["tvs_switch"]
+    tvs: Tvs
+
+
+Clamp = Annotated[
+    Annotated[NoClamp, Tag("none")]
+    | Annotated[DiodeClamp, Tag("diode")]
+    | Annotated[DiodeZenerClamp, Tag("diode_zener")]
+    | Annotated[DiodeResistorClamp, Tag("diode_resistor")]
+    | Annotated[ResistorClamp, Tag("resistor")]
+    | Annotated[TvsClamp, Tag("tvs_switch")],
+    Discriminator("kind"),
+]
+CLAMP_KINDS = ("none", "diode", "diode_zener", "diode_resistor", "resistor", "tvs_switch")
+
+
+class Switching(Model):
+    per_hour: Annotated[float, _quantity("/h", positive=True)] | None = None
+
+
+class Requirements(Model):
+    max_release_time: Seconds | None = None
+
+
+class Limits(Model):
+    """Overrides of the derating profile; see app.engine.profile for the defaults."""
+
+    voltage: Fraction | None = None
+    current: Fraction | None = None
+    power: Fraction | None = None
+    tj: Celsius | None = None
+    overdrive: Ratio | None = None
+    pickup_margin: Annotated[float, _quantity("", nonnegative=True)] | None = None
+    cutoff: Fraction | None = None
+
+
+class Design(Model):
+    """One relay-driver design: BJT low-side switch, coil, clamp, drive."""
+
+    format: Literal["clampdown-design/1"] = Field(alias="format")
+    name: str = Field(min_length=1, max_length=300)
+    notes: str | None = Field(None, max_length=20000)
+    supply: Supply
+    ambient: Ambient
+    drive: Drive
+    base: Base
+    switch: Transistor
+    coil: Coil
+    clamp: Clamp
+    switching: Switching = Switching()
+    requirements: Requirements = Requirements()
+    limits: Limits = Limits()
+
+    model_config = ConfigDict(extra="forbid", frozen=True, populate_by_name=True)
+
+    @model_validator(mode="after")
+    def _circuit(self) -> Design:
+        if self.switch.vce_sat >= self.supply.low:
+            raise _problem(
+                f"switch.vce_sat ({self.switch.vce_sat:g} V) must be below the lowest supply "
+                f"({self.supply.low:g} V)"
+            )
+        return self
+
+
+# ---------------------------------------------------------------- errors
+
+
+class DesignError(ValueError):
+    """A design file that cannot be evaluated; ``problems`` holds one line per problem."""
+
+    def __init__(self, problems: list[str]):
+        super().__init__("\n".join(problems))
+        self.problems = problems
+
+
+_TAGS = set(CLAMP_KINDS) | {"logic", "divider"}
+_MISSING = object()
+
+
+def _path(loc: tuple[Any, ...]) -> str:
+    parts: list[str] = []
+    for i, item in enumerate(loc):
+        # Pydantic puts the union member's tag in the location; users never wrote it.
+        if isinstance(item, str) and item in _TAGS and i > 0 and loc[i - 1] in ("clamp", "drive"):
+            continue
+        if isinstance(item, int):
+            parts.append(f"[{item}]")
+        else:
+            parts.append(("." if parts else "") + str(item))
+    return "".join(parts) or "(design)"
+
+
+def _value_text(value: Any) -> str:
+    if value is _MISSING:
+        return ""
+    import json
+
+    try:
+        text = json.dumps(value, ensure_ascii=False)
+    except (TypeError, ValueError):
+        text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "…"
+
+
+def _message(error: dict[str, Any]) -> str:
+    kind = error["type"]
+    ctx = error.get("ctx") or {}
+    if kind == "missing":
+        return "is required"
+    if kind == "extra_forbidden":
+        return "is not a field of this object (check the spelling)"
+    if kind == "literal_error":
+        return f"must be one of {ctx.get('expected', '')}"
+    if kind == "union_tag_invalid":
+        return f"kind must be one of {ctx.get('expected_tags', '')}"
+    if kind == "union_tag_not_found":
+        return 'needs a "kind": ' + str(ctx.get("discriminator", "kind"))
+    if kind in ("model_type", "model_attributes_type", "dict_type"):
+        return "must be an object"
+    if kind in ("string_type",):
+        return "must be a string"
+    if kind == "string_too_short":
+        return "must not be empty"
+    if kind == "string_too_long":
+        return f"is too long (at most {ctx.get('max_length')} characters)"
+    return str(error["msg"]).removeprefix("Value error, ")
+
+
+def problems_from(exc: ValidationError) -> list[str]:
+    """One line per problem: the field path, the value given, and what is allowed."""
+    lines = []
+    for error in exc.errors(include_url=False):
+        path = _path(tuple(error["loc"]))
+        value = error.get("input", _MISSING) if error["type"] not in ("missing",) else _MISSING
+        if error["type"] in ("model_type", "extra_forbidden", "literal_error") or not isinstance(
+            value, (dict, list)
+        ):
+            shown = _value_text(value)
+        else:
+            shown = ""
+        lines.append(f"{path}: {shown + ' ' if shown else ''}{_message(error)}")
+    return lines
+
+
+def parse_design(document: Any) -> Design:
+    """Validate a decoded design file; raise DesignError listing every problem found."""
+    if not isinstance(document, dict):
+        raise DesignError(["(design): the design file must be a JSON object"])
+    if document.get("format") != DESIGN_FORMAT:
+        raise DesignError([f'format: {_value_text(document.get("format", None))} must be "{DESIGN_FORMAT}"'])
+    try:
+        return Design.model_validate(document)
+    except ValidationError as exc:
+        raise DesignError(problems_from(exc)) from None
+
+
+def parse_part(model: type[Model], document: Any) -> Model:
+    """Validate one library part with the same rules as inside a design file."""
+    try:
+        return model.model_validate(document)
+    except ValidationError as exc:
+        raise DesignError(problems_from(exc)) from None

@@ -1,0 +1,92 @@
+"""SPICE netlist of the turn-off, with the same component values and device models the
+engine uses, so that ngspice can check the engine's transient (``clampdown netlist``).
+
+The circuit at the instant the switch opens: the supply, the coil's resistance and
+inductance (carrying I_0), a 0 V source that measures the coil current, and the clamp.
+The switch itself is open (ideal). ``.meas`` lines print the peak switch voltage and the
+time at which the coil current falls to the drop-out current.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .design import Design
+from .review import build_context
+from .transient import ClampPath
+
+
+def _g(x: float) -> str:
+    return f"{float(x):.9g}"
+
+
+def _clamp_lines(path: ClampPath, index: int) -> list[str]:
+    lines: list[str] = []
+    if path.diode is not None:
+        d = path.diode
+        lines.append(f".model dclamp D(IS={_g(d.i_s)} N={_g(d.n)} RS={_g(d.r_s)})")
+    kind = path.kind
+    if kind == "diode":
+        lines.append("D1 sw vcc dclamp")
+    elif kind == "diode_zener":
+        b = path.breakdown
+        v_br = float(path.v_br[index])
+        # SPICE breakdown: V(i) = BV + N_BV·V_T·ln(i/IBV); the series resistor adds i·R_Z, so
+        # BV = V_Z − I_ZT·R_Z makes V(I_ZT) = V_Z as in the engine's model.
+        lines.append(f".model dzener D(BV={_g(v_br - b.i_test * b.r_s)} IBV={_g(b.i_test)} NBV=1)")
+        lines.append("D1 sw k dclamp")
+        lines.append(f"RZ k z {_g(max(b.r_s, 1e-6))}")
+        lines.append("DZ vcc z dzener")
+    elif kind == "diode_resistor":
+        lines.append("D1 sw k dclamp")
+        lines.append(f"RS k vcc {_g(path.r[index])}")
+    elif kind == "resistor":
+        lines.append(f"RP sw vcc {_g(path.r[index])}")
+    elif kind == "tvs_switch":
+        b = path.breakdown
+        lines.append(f".model dtvs D(BV={_g(b.v_br - b.i_test * b.r_s)} IBV={_g(b.i_test)} NBV=1)")
+        lines.append(f"RT sw t {_g(max(b.r_s, 1e-6))}")
+        lines.append("DT 0 t dtvs")
+    else:
+        raise ValueError("an unclamped coil has no finite turn-off to simulate")
+    return lines
+
+
+def netlist(design: Design, corner: str = "nominal") -> str:
+    """The turn-off netlist at the nominal corner, or at the worst corner for the spike."""
+    ctx = build_context(design)
+    if corner == "nominal":
+        op, path, to, index = ctx.nominal, None, ctx.turnoff_nominal, 0
+        from .corners import nominal_corner
+        from .transient import clamp_path
+
+        path = clamp_path(design, op.vcc, nominal_corner(design).values)
+        label = "nominal corner"
+    elif corner == "worst":
+        to = ctx.turnoff
+        index = int(np.argmax(np.where(np.isfinite(to.peak_switch_voltage), to.peak_switch_voltage, 0)))
+        op, path = ctx.op, ctx.path
+        label = "worst corner for the turn-off spike: " + ", ".join(
+            f"{k}={v:g}" for k, v in ctx.corners.describe(index).items()
+        )
+    else:
+        raise ValueError("corner must be nominal or worst")
+    vcc = float(op.vcc[index])
+    i0 = float(to.initial_current[index])
+    ido = float(op.dropout_current)
+    t_expected = float(to.time_to_dropout[index])
+    t_stop = 3 * t_expected if np.isfinite(t_expected) and t_expected > 0 else 1e-2
+    lines = [
+        f"* Clampdown turn-off of {design.name!s} ({label})".replace("\n", " "),
+        f"* I_0 = {_g(i0)} A, drop-out current {_g(ido)} A; switch open from t = 0",
+        f"VCC vcc 0 DC {_g(vcc)}",
+        f"RCOIL vcc a {_g(op.r_coil[index])}",
+        f"LCOIL a b {_g(design.coil.inductance)} IC={_g(i0)}",
+        "VSENSE b sw DC 0",
+        *_clamp_lines(path, index),
+        f".tran {_g(t_stop / 4000)} {_g(t_stop)} 0 {_g(t_stop / 4000)} uic",
+        ".meas tran peak_switch_voltage MAX v(sw)",
+        f".meas tran time_to_dropout WHEN i(VSENSE)={_g(ido)} FALL=1",
+        ".end",
+    ]
+    return "\n".join(lines) + "\n"

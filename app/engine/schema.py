@@ -1,0 +1,18 @@
+"""JSON Schema of the design file, generated from the pydantic models (``clampdown schema``)."""
+
+from __future__ import annotations
+
+from .design import DESIGN_FORMAT, Design
+
+
+def design_schema() -> dict:
+    schema = Design.model_json_schema(by_alias=True, mode="validation")
+    schema["$schema"] = "https://json-schema.org/draft/2020-12/schema"
+    schema["$id"] = "clampdown-design-1.schema.json"
+    schema["title"] = f"Clampdown design file ({DESIGN_FORMAT})"
+    schema["description"] = (
+        "One relay-driver design. Numbers are SI base units (V, A, Ω, H, F, W, s, °C, K/W); a "
+        'string may carry SI prefixes, RKM codes and unit symbols ("4k7", "4.7 kΩ", "120 mH"). '
+        'Tolerances are in percent (10 or "10%").'
+    )
+    return schema

@@ -1,0 +1,58 @@
+"""The report as a table for a terminal (``clampdown check``)."""
+
+from __future__ import annotations
+
+from .units import format_si
+
+_LABEL = {"violation": "VIOLATION", "marginal": "marginal", "ok": "ok", "note": "note"}
+
+
+def render_table(report: dict) -> str:
+    rows = [("rule", "status", "value", "limit", "rating")]
+    for f in report["findings"]:
+        rows.append(
+            (
+                f["rule"],
+                _LABEL[f["status"]],
+                format_si(f["value"], f["unit"]) if f["value"] is not None else "unbounded",
+                format_si(f["limit"], f["unit"]) if f["limit"] is not None else "",
+                format_si(f["rating"], f["unit"]) if f["rating"] is not None else "",
+            )
+        )
+    widths = [max(len(r[i]) for r in rows) for i in range(5)]
+    out = [
+        f"{report['design']}",
+        f"verdict: {report['verdict']}   profile: {report['profile']['name']}   corners: {report['corners']}",
+        "",
+    ]
+    for n, row in enumerate(rows):
+        out.append("  ".join(cell.ljust(widths[i]) for i, cell in enumerate(row)).rstrip())
+        if n == 0:
+            out.append("  ".join("-" * w for w in widths))
+    out.append("")
+    for f in report["findings"]:
+        if f["status"] in ("violation", "marginal"):
+            out.append(f"{_LABEL[f['status']]:>9}  {f['rule']}: {f['message']}")
+    nom, tr = report["nominal"], report["transient"]
+    out.append("")
+    out.append(
+        "nominal: I_C {} , I_B {}, overdrive {}, coil {}, T_J {}".format(
+            format_si(nom["collector_current"], "A"),
+            format_si(nom["base_current"], "A"),
+            format_si(nom["overdrive"], "×"),
+            format_si(nom["coil_voltage"], "V"),
+            format_si(nom["junction_temp"], "°C"),
+        )
+    )
+    out.append(
+        "turn-off ({}): I_0 {}, peak {}, drop-out after {}, energy {}".format(
+            tr["clamp"],
+            format_si(tr["initial_current"], "A"),
+            format_si(tr["peak_switch_voltage"], "V")
+            if tr["peak_switch_voltage"] is not None
+            else "unbounded",
+            format_si(tr["time_to_dropout"], "s"),
+            format_si(tr["energy"], "J"),
+        )
+    )
+    return "\n".join(out) + "\n"

@@ -1,0 +1,149 @@
+"""Turn-off of the coil: peak switch voltage, time to drop-out, energy.
+
+When the switch opens the inductor keeps its current I_0 flowing through the clamp. With
+v_c(i) the voltage the clamp path adds around the coil loop (beyond the coil's own R·i),
+L di/dt = −(R·i + v_c(i)), so the peak switch voltage is V_cc + v_c(I_0) and the time for
+the current to fall to the drop-out current is
+
+    t = ∫ from I_do to I_0 of L / (R·i + v_c(i)) di,
+
+evaluated here in u = ln i (t = ∫ L·i / (R·i + v_c(i)) du) with Gauss–Legendre quadrature,
+all corners at once. The switch itself is taken as ideal (it opens in zero time).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .design import (
+    Design,
+    DiodeClamp,
+    DiodeResistorClamp,
+    DiodeZenerClamp,
+    NoClamp,
+    ResistorClamp,
+    TvsClamp,
+)
+from .physics import BreakdownModel, DiodeModel
+
+_NODES, _WEIGHTS = np.polynomial.legendre.leggauss(64)
+
+
+@dataclass(frozen=True)
+class ClampPath:
+    """The clamp of one design over a set of corners; arrays have one element per corner."""
+
+    kind: str
+    vcc: np.ndarray
+    diode: DiodeModel | None = None
+    breakdown: BreakdownModel | None = None
+    v_br: np.ndarray | None = None  # zener voltage per corner
+    r: np.ndarray | None = None  # clamp resistor per corner
+    avalanche: float | None = None  # V_(BR)CEO, the least the unclamped node reaches
+
+    def loop_voltage(self, i: np.ndarray) -> np.ndarray:
+        """v_c(i): voltage the clamp path adds around the coil loop; i has shape (N, M)."""
+        vcc = self.vcc[:, None]
+        if self.kind == "diode":
+            return self.diode.voltage(i)
+        if self.kind == "diode_zener":
+            return self.diode.voltage(i) + self.breakdown.voltage(i, self.v_br[:, None])
+        if self.kind == "diode_resistor":
+            return self.diode.voltage(i) + i * self.r[:, None]
+        if self.kind == "resistor":
+            return i * self.r[:, None]
+        if self.kind == "tvs_switch":
+            return self.breakdown.voltage(i) - vcc
+        # Unclamped: the node rises to avalanche, at least V_(BR)CEO.
+        return np.broadcast_to(self.avalanche - vcc, i.shape)
+
+    def device_voltage(self, i: np.ndarray) -> np.ndarray:
+        """Voltage across the clamp device itself (what it dissipates i·v of)."""
+        if self.kind == "tvs_switch":
+            return self.breakdown.voltage(i)
+        if self.kind == "none":
+            return np.broadcast_to(self.avalanche, i.shape)
+        return self.loop_voltage(i)
+
+
+def clamp_path(design: Design, vcc: np.ndarray, values: dict[str, np.ndarray]) -> ClampPath:
+    clamp = design.clamp
+    if isinstance(clamp, NoClamp):
+        return ClampPath("none", vcc, avalanche=design.switch.vceo)
+    if isinstance(clamp, TvsClamp):
+        return ClampPath("tvs_switch", vcc, breakdown=BreakdownModel.from_tvs(clamp.tvs))
+    diode = DiodeModel.from_part(clamp.diode)
+    if isinstance(clamp, DiodeClamp):
+        return ClampPath("diode", vcc, diode=diode)
+    if isinstance(clamp, DiodeZenerClamp):
+        return ClampPath(
+            "diode_zener",
+            vcc,
+            diode=diode,
+            breakdown=BreakdownModel.from_zener(clamp.zener, clamp.zener.vz),
+            v_br=values["vz"],
+        )
+    if isinstance(clamp, DiodeResistorClamp):
+        return ClampPath("diode_resistor", vcc, diode=diode, r=values["r_clamp"])
+    assert isinstance(clamp, ResistorClamp)
+    return ClampPath("resistor", vcc, r=values["r_clamp"])
+
+
+def _integrate_log(f, lower: np.ndarray, upper: np.ndarray) -> np.ndarray:
+    """∫ f(i) di from lower to upper, as ∫ f(e^u)·e^u du, Gauss–Legendre per corner."""
+    a, b = np.log(lower)[:, None], np.log(upper)[:, None]
+    u = (b - a) / 2 * _NODES[None, :] + (a + b) / 2
+    i = np.exp(u)
+    return ((b - a) / 2 * (_WEIGHTS[None, :] * f(i) * i)).sum(axis=1)
+
+
+@dataclass(frozen=True)
+class TurnOff:
+    initial_current: np.ndarray
+    peak_switch_voltage: np.ndarray  # inf when unclamped
+    time_to_dropout: np.ndarray
+    energy: np.ndarray  # ½·L·I_0², stored in the coil at turn-off
+    clamp_energy: np.ndarray  # of it, what the clamp device absorbs
+    charge: np.ndarray  # ∫ i dt through the clamp per turn-off
+
+
+def turn_off(
+    path: ClampPath,
+    inductance: float,
+    r_coil: np.ndarray,
+    initial_current: np.ndarray,
+    dropout_current: float,
+) -> TurnOff:
+    i0 = np.asarray(initial_current, dtype=float)
+    r = np.asarray(r_coil, dtype=float)[:, None]
+
+    def decay_rate(i):  # R·i + v_c(i), the voltage driving the current down
+        return r * i + path.loop_voltage(i)
+
+    peak = path.vcc + path.loop_voltage(i0[:, None])[:, 0]
+    ido = np.full_like(i0, dropout_current)
+    picked = i0 > ido
+    lower = np.where(picked, ido, i0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = _integrate_log(lambda i: inductance / decay_rate(i), lower, i0)
+        # The current decays to 1/1000 of I_0 for the energy and charge (the rest is < 1e-6 of E).
+        tail = i0 * 1e-3
+        charge = _integrate_log(lambda i: inductance * i / decay_rate(i), tail, i0)
+        clamp_energy = _integrate_log(
+            lambda i: inductance * i * path.device_voltage(i) / decay_rate(i), tail, i0
+        )
+    # A clamp that holds the current up (its voltage below the supply) never lets it decay.
+    stuck = (decay_rate(lower[:, None])[:, 0] <= 0) & picked
+    t = np.where(stuck, np.inf, np.where(picked, t, 0.0))
+    if path.kind == "none":
+        peak = np.full_like(i0, np.inf)
+    return TurnOff(
+        initial_current=i0,
+        peak_switch_voltage=peak,
+        time_to_dropout=t,
+        energy=0.5 * inductance * i0**2,
+        clamp_energy=clamp_energy,
+        charge=charge,
+    )
