@@ -17,6 +17,7 @@ from pydantic import (
     Field,
     Tag,
     ValidationError,
+    WithJsonSchema,
     model_validator,
 )
 from pydantic_core import PydanticCustomError
@@ -38,7 +39,15 @@ def _quantity(unit: str, *, positive: bool = False, nonnegative: bool = False):
             raise PydanticCustomError("quantity", "must be zero or positive")
         return number
 
-    return BeforeValidator(parse)
+    return BeforeValidator(parse), _number_or_text(unit)
+
+
+def _number_or_text(unit: str) -> WithJsonSchema:
+    text = {"type": "string", "description": f'engineering notation, e.g. "4k7" or "120 m{unit}"'}
+    schema: dict[str, Any] = {"anyOf": [{"type": "number"}, text]}
+    if unit:
+        schema["description"] = f"in {unit}"
+    return WithJsonSchema(schema)
 
 
 def _tolerance(value: Any) -> float:
@@ -65,20 +74,20 @@ def _fraction(value: Any) -> float:
     return number
 
 
-Volts = Annotated[float, _quantity("V")]
-PositiveVolts = Annotated[float, _quantity("V", positive=True)]
-NonNegativeVolts = Annotated[float, _quantity("V", nonnegative=True)]
-PositiveAmps = Annotated[float, _quantity("A", positive=True)]
-Ohms = Annotated[float, _quantity("Ω", positive=True)]
-NonNegativeOhms = Annotated[float, _quantity("Ω", nonnegative=True)]
-Henries = Annotated[float, _quantity("H", positive=True)]
-Watts = Annotated[float, _quantity("W", positive=True)]
-Seconds = Annotated[float, _quantity("s", positive=True)]
-Celsius = Annotated[float, _quantity("°C")]
-KelvinPerWatt = Annotated[float, _quantity("K/W", positive=True)]
-Ratio = Annotated[float, _quantity("", positive=True)]
-Tolerance = Annotated[float, BeforeValidator(_tolerance)]
-Fraction = Annotated[float, BeforeValidator(_fraction)]
+Volts = Annotated[float, *_quantity("V")]
+PositiveVolts = Annotated[float, *_quantity("V", positive=True)]
+NonNegativeVolts = Annotated[float, *_quantity("V", nonnegative=True)]
+PositiveAmps = Annotated[float, *_quantity("A", positive=True)]
+Ohms = Annotated[float, *_quantity("Ω", positive=True)]
+NonNegativeOhms = Annotated[float, *_quantity("Ω", nonnegative=True)]
+Henries = Annotated[float, *_quantity("H", positive=True)]
+Watts = Annotated[float, *_quantity("W", positive=True)]
+Seconds = Annotated[float, *_quantity("s", positive=True)]
+Celsius = Annotated[float, *_quantity("°C")]
+KelvinPerWatt = Annotated[float, *_quantity("K/W", positive=True)]
+Ratio = Annotated[float, *_quantity("", positive=True)]
+Tolerance = Annotated[float, BeforeValidator(_tolerance), _number_or_text("%")]
+Fraction = Annotated[float, BeforeValidator(_fraction), _number_or_text("")]
 
 
 class Model(BaseModel):
@@ -148,7 +157,7 @@ class Diode(Model):
     i_peak: PositiveAmps = Field(description="repetitive / surge peak forward current rating")
     vf: PositiveVolts = Field(description="forward voltage at vf_at")
     vf_at: PositiveAmps = Field(description="current at which vf is specified")
-    is_: Annotated[float, _quantity("A", positive=True)] | None = Field(
+    is_: Annotated[float, *_quantity("A", positive=True)] | None = Field(
         None, alias="is", description="SPICE saturation current I_S"
     )
     n: Ratio | None = Field(None, description="SPICE emission coefficient")
@@ -321,7 +330,7 @@ CLAMP_KINDS = ("none", "diode", "diode_zener", "diode_resistor", "resistor", "tv
 
 
 class Switching(Model):
-    per_hour: Annotated[float, _quantity("/h", positive=True)] | None = None
+    per_hour: Annotated[float, *_quantity("/h", positive=True)] | None = None
 
 
 class Requirements(Model):
@@ -336,7 +345,7 @@ class Limits(Model):
     power: Fraction | None = None
     tj: Celsius | None = None
     overdrive: Ratio | None = None
-    pickup_margin: Annotated[float, _quantity("", nonnegative=True)] | None = None
+    pickup_margin: Annotated[float, *_quantity("", nonnegative=True)] | None = None
     cutoff: Fraction | None = None
 
 

@@ -74,6 +74,8 @@ def clamp_path(design: Design, vcc: np.ndarray, values: dict[str, np.ndarray]) -
         return ClampPath("none", vcc, avalanche=design.switch.vceo)
     if isinstance(clamp, TvsClamp):
         return ClampPath("tvs_switch", vcc, breakdown=BreakdownModel.from_tvs(clamp.tvs))
+    if isinstance(clamp, ResistorClamp):
+        return ClampPath("resistor", vcc, r=values["r_clamp"])
     diode = DiodeModel.from_part(clamp.diode)
     if isinstance(clamp, DiodeClamp):
         return ClampPath("diode", vcc, diode=diode)
@@ -85,10 +87,8 @@ def clamp_path(design: Design, vcc: np.ndarray, values: dict[str, np.ndarray]) -
             breakdown=BreakdownModel.from_zener(clamp.zener, clamp.zener.vz),
             v_br=values["vz"],
         )
-    if isinstance(clamp, DiodeResistorClamp):
-        return ClampPath("diode_resistor", vcc, diode=diode, r=values["r_clamp"])
-    assert isinstance(clamp, ResistorClamp)
-    return ClampPath("resistor", vcc, r=values["r_clamp"])
+    assert isinstance(clamp, DiodeResistorClamp)
+    return ClampPath("diode_resistor", vcc, diode=diode, r=values["r_clamp"])
 
 
 def _integrate_log(f, lower: np.ndarray, upper: np.ndarray) -> np.ndarray:

@@ -1,0 +1,124 @@
+"""`clampdown check`, `schema` and `netlist` as a CI job uses them."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import jsonschema
+import pytest
+
+from .handbook import design
+
+EXAMPLES = sorted(Path(__file__).resolve().parent.parent.joinpath("seed_data", "examples").glob("*.json"))
+
+
+def clampdown(*args: str, stdin: str | None = None) -> subprocess.CompletedProcess:
+    return subprocess.run(
+        [sys.executable, "-m", "app.cli", *args], capture_output=True, text=True, input=stdin, timeout=60
+    )
+
+
+def write(tmp_path, document) -> str:
+    path = tmp_path / "d.json"
+    path.write_text(json.dumps(document))
+    return str(path)
+
+
+def test_a_clean_design_exits_0_with_a_table(tmp_path):
+    result = clampdown("check", write(tmp_path, design()))
+    assert result.returncode == 0, result.stdout + result.stderr
+    assert "verdict: ok" in result.stdout
+    assert "switch.breakdown" in result.stdout
+
+
+def test_a_violation_exits_1(tmp_path):
+    result = clampdown("check", write(tmp_path, design(clamp={"kind": "none"})))
+    assert result.returncode == 1
+    assert "VIOLATION" in result.stdout
+
+
+def test_strict_fails_on_marginal(tmp_path):
+    path = write(tmp_path, design(**{"base.r_series": "3k3"}))  # overdrive 1.51: marginal
+    assert clampdown("check", path).returncode == 0
+    assert clampdown("check", path, "--strict").returncode == 1
+
+
+def test_json_report_contract(tmp_path):
+    result = clampdown("check", write(tmp_path, design()), "--format", "json")
+    report = json.loads(result.stdout)
+    assert report["format"] == "clampdown-report/1"
+    assert {"design", "verdict", "findings", "nominal", "transient"} <= report.keys()
+    required_rules = {
+        "drive.saturation",
+        "drive.cutoff",
+        "drive.source_current",
+        "drive.reverse_base",
+        "coil.pickup",
+        "coil.overvoltage",
+        "switch.current",
+        "switch.breakdown",
+        "switch.power",
+        "switch.junction_temp",
+        "clamp.reverse_voltage",
+        "clamp.peak_current",
+        "clamp.energy",
+        "resistor.power",
+        "coil.release",
+    }
+    assert required_rules <= {f["rule"] for f in report["findings"]}
+    for finding in report["findings"]:
+        assert set(finding) == {
+            "rule",
+            "title",
+            "status",
+            "value",
+            "unit",
+            "limit",
+            "rating",
+            "corner",
+            "message",
+        }
+        assert finding["status"] in {"violation", "marginal", "ok", "note"}
+        assert finding["value"] is not None  # only an unclamped spike has no finite value
+    for key in ("collector_current", "base_current", "overdrive", "coil_voltage", "junction_temp"):
+        assert isinstance(report["nominal"][key], float)
+    for key in ("clamp", "initial_current", "peak_switch_voltage", "time_to_dropout", "energy"):
+        assert report["transient"][key] is not None
+
+
+def test_reads_standard_input():
+    result = clampdown("check", "-", "--format", "json", stdin=json.dumps(design()))
+    assert result.returncode == 0 and json.loads(result.stdout)["verdict"] == "ok"
+
+
+def test_schema_accepts_the_examples_and_engineering_strings():
+    schema = json.loads(clampdown("schema").stdout)
+    jsonschema.Draft202012Validator.check_schema(schema)
+    for path in EXAMPLES:
+        jsonschema.validate(json.loads(path.read_text()), schema)
+    assert schema["properties"]["format"]["const"] == "clampdown-design/1"
+
+
+@pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.stem)
+def test_examples_evaluate(path):
+    result = clampdown("check", str(path), "--format", "json")
+    assert result.returncode in (0, 1), result.stderr
+    assert json.loads(result.stdout)["design"].startswith("Demo")
+
+
+def test_netlist_has_the_engine_values(tmp_path):
+    result = clampdown("netlist", write(tmp_path, design()))
+    assert result.returncode == 0
+    text = result.stdout
+    assert "IS=1e-08 N=1.9 RS=0.05" in text
+    assert "RCOIL vcc a 160" in text
+    assert "LCOIL a b 0.12 IC=0.07375" in text
+    assert text.rstrip().endswith(".end")
+
+
+def test_netlist_refuses_an_unclamped_coil(tmp_path):
+    result = clampdown("netlist", write(tmp_path, design(clamp={"kind": "none"})))
+    assert result.returncode == 2 and "clamp.kind" in result.stderr
