@@ -56,11 +56,7 @@ def netlist(design: Design, corner: str = "nominal") -> str:
     """The turn-off netlist at the nominal corner, or at the worst corner for the spike."""
     ctx = build_context(design)
     if corner == "nominal":
-        op, path, to, index = ctx.nominal, None, ctx.turnoff_nominal, 0
-        from .corners import nominal_corner
-        from .transient import clamp_path
-
-        path = clamp_path(design, op.vcc, nominal_corner(design).values)
+        op, path, to, index = ctx.nominal, ctx.nominal_path, ctx.turnoff_nominal, 0
         label = "nominal corner"
     elif corner == "worst":
         to = ctx.turnoff

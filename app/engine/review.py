@@ -9,7 +9,7 @@ from . import ENGINE_VERSION
 from .circuit import operating_point
 from .corners import nominal_corner, worst_corners
 from .design import Design, Diode
-from .physics import DiodeModel
+from .physics import BreakdownModel, DiodeModel
 from .profile import DEFAULT_PROFILE, Profile
 from .rules import RULES, STATUS_ORDER, Context, Finding
 from .transient import ClampPath, clamp_path, turn_off
@@ -36,8 +36,6 @@ def _alternatives(ctx: Context) -> list[dict]:
     v_f = float(diode.voltage(i0_worst))
     vz = v_budget - v_f
     if vz > 1:
-        from .physics import BreakdownModel
-
         candidates.append(
             (
                 f"diode + {vz:.0f} V zener",
@@ -77,7 +75,7 @@ def build_context(design: Design, profile: Profile = DEFAULT_PROFILE) -> Context
     inductance = design.coil.inductance
     to = turn_off(path, inductance, op.r_coil, op.coil_current, op.dropout_current)
     to_nom = turn_off(nominal_path, inductance, nom.r_coil, nom.coil_current, nom.dropout_current)
-    ctx = Context(design, profile, corners, op, nom, path, to, to_nom)
+    ctx = Context(design, profile, corners, op, nom, path, nominal_path, to, to_nom)
     ctx.extras["alternatives"] = _alternatives(ctx)
     return ctx
 

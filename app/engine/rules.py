@@ -61,7 +61,8 @@ class Context:
     corners: Corners
     op: OperatingPoint  # every worst-case corner
     nominal: OperatingPoint
-    path: ClampPath
+    path: ClampPath  # the clamp at every worst-case corner
+    nominal_path: ClampPath
     turnoff: TurnOff  # every worst-case corner
     turnoff_nominal: TurnOff
     extras: dict = field(default_factory=dict)
@@ -548,7 +549,7 @@ def clamp_energy(ctx: Context) -> Finding:
         )
     if getattr(clamp, "zener", None) is not None and per_hour is not None:
         # The zener's share: its voltage times the charge (plus its rz loss, counted with it).
-        zener_energy = to.clamp_energy - _diode_energy(ctx)
+        zener_energy = to.clamp_energy - to.diode_energy
         power = zener_energy * per_hour / 3600.0
         rating = clamp.zener.p_max
         return judge(
@@ -562,19 +563,6 @@ def clamp_energy(ctx: Context) -> Finding:
             message=lambda i, s: f"zener averages {_si(power[i], 'W')} at {per_hour:g}/h; {text}",
         )
     return note(ctx, "clamp.energy", float(to.energy[worst]), "J", text, worst)
-
-
-def _diode_energy(ctx: Context) -> np.ndarray:
-    from .transient import _integrate_log
-
-    to, path = ctx.turnoff, ctx.path
-    r = ctx.op.r_coil[:, None]
-    inductance = ctx.design.coil.inductance
-    return _integrate_log(
-        lambda i: inductance * i * path.diode.voltage(i) / (r * i + path.loop_voltage(i)),
-        to.initial_current * 1e-3,
-        to.initial_current,
-    )
 
 
 # ---------------------------------------------------------------- resistors

@@ -106,6 +106,7 @@ class TurnOff:
     time_to_dropout: np.ndarray
     energy: np.ndarray  # ½·L·I_0², stored in the coil at turn-off
     clamp_energy: np.ndarray  # of it, what the clamp device absorbs
+    diode_energy: np.ndarray  # of that, what the clamp's rectifier diode absorbs (0 without one)
     charge: np.ndarray  # ∫ i dt through the clamp per turn-off
 
 
@@ -134,6 +135,12 @@ def turn_off(
         clamp_energy = _integrate_log(
             lambda i: inductance * i * path.device_voltage(i) / decay_rate(i), tail, i0
         )
+        if path.diode is not None:
+            diode_energy = _integrate_log(
+                lambda i: inductance * i * path.diode.voltage(i) / decay_rate(i), tail, i0
+            )
+        else:
+            diode_energy = np.zeros_like(i0)
     # A clamp that holds the current up (its voltage below the supply) never lets it decay.
     stuck = (decay_rate(lower[:, None])[:, 0] <= 0) & picked
     t = np.where(stuck, np.inf, np.where(picked, t, 0.0))
@@ -145,5 +152,6 @@ def turn_off(
         time_to_dropout=t,
         energy=0.5 * inductance * i0**2,
         clamp_energy=clamp_energy,
+        diode_energy=diode_energy,
         charge=charge,
     )
