@@ -1,0 +1,59 @@
+"""One settings object, read from the environment (prefix CLAMPDOWN_)."""
+
+from __future__ import annotations
+
+import secrets
+from functools import lru_cache
+from pathlib import Path
+
+from pydantic_settings import BaseSettings, SettingsConfigDict
+
+REPO_ROOT = Path(__file__).resolve().parents[2]
+
+
+class Settings(BaseSettings):
+    """CLAMPDOWN_DATA_DIR, CLAMPDOWN_DATABASE_URL, CLAMPDOWN_SECRET_KEY, CLAMPDOWN_SESSION_DAYS."""
+
+    model_config = SettingsConfigDict(env_prefix="CLAMPDOWN_", extra="ignore")
+
+    data_dir: Path = Path("data")
+    database_url: str = ""
+    secret_key: str = ""
+    session_days: int = 14
+    # Only for the screenshot script and tests; never set in production.
+    cookie_secure: bool = False
+
+    def resolved(self) -> Settings:
+        """Fill the defaults that live in the data directory: the SQLite file and the secret key."""
+        data_dir = self.data_dir.expanduser().resolve()
+        url = self.database_url or f"sqlite:///{data_dir / 'clampdown.sqlite3'}"
+        url = normalise_database_url(url)
+        key = self.secret_key or _kept_secret(data_dir)
+        if url.startswith("sqlite"):
+            data_dir.mkdir(parents=True, exist_ok=True)
+        return self.model_copy(update={"data_dir": data_dir, "database_url": url, "secret_key": key})
+
+
+def normalise_database_url(url: str) -> str:
+    """Accept plain postgresql:// URLs and use psycopg 3 for them."""
+    for prefix in ("postgresql://", "postgres://"):
+        if url.startswith(prefix):
+            return "postgresql+psycopg://" + url[len(prefix) :]
+    return url
+
+
+def _kept_secret(data_dir: Path) -> str:
+    """The secret key kept in the data directory, generated on first use."""
+    path = data_dir / "secret_key"
+    if path.exists():
+        return path.read_text(encoding="utf-8").strip()
+    data_dir.mkdir(parents=True, exist_ok=True)
+    key = secrets.token_urlsafe(48)
+    path.write_text(key + "\n", encoding="utf-8")
+    path.chmod(0o600)
+    return key
+
+
+@lru_cache
+def get_settings() -> Settings:
+    return Settings().resolved()

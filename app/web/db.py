@@ -1,0 +1,57 @@
+"""The database engine, sessions, and applying migrations."""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from contextlib import contextmanager
+
+from alembic import command
+from alembic.config import Config
+from sqlalchemy import Engine, event
+from sqlmodel import Session, create_engine
+
+from .config import REPO_ROOT
+
+
+def make_engine(url: str) -> Engine:
+    """An engine for SQLite (WAL mode, foreign keys on) or PostgreSQL (psycopg 3)."""
+    if url.startswith("sqlite"):
+        engine = create_engine(url, connect_args={"check_same_thread": False, "timeout": 30})
+
+        @event.listens_for(engine, "connect")
+        def _pragmas(dbapi_connection, _record):
+            cursor = dbapi_connection.cursor()
+            cursor.execute("PRAGMA journal_mode=WAL")
+            cursor.execute("PRAGMA foreign_keys=ON")
+            cursor.execute("PRAGMA synchronous=NORMAL")
+            cursor.close()
+
+        return engine
+    return create_engine(url, pool_size=10, max_overflow=20, pool_pre_ping=True)
+
+
+def alembic_config(url: str) -> Config:
+    config = Config(str(REPO_ROOT / "alembic.ini"))
+    config.set_main_option("script_location", str(REPO_ROOT / "migrations"))
+    config.set_main_option("sqlalchemy.url", url.replace("%", "%%"))
+    return config
+
+
+def migrate(engine: Engine) -> None:
+    """Bring the database to the newest migration."""
+    config = alembic_config(str(engine.url.render_as_string(hide_password=False)))
+    with engine.begin() as connection:
+        config.attributes["connection"] = connection
+        command.upgrade(config, "head")
+
+
+@contextmanager
+def session_scope(engine: Engine) -> Iterator[Session]:
+    """A session whose transaction commits when the block ends without an exception."""
+    with Session(engine, expire_on_commit=False) as session:
+        try:
+            yield session
+            session.commit()
+        except BaseException:
+            session.rollback()
+            raise

@@ -1,0 +1,82 @@
+"""What routes receive: the database session, the signed-in user by role, and the CSRF check."""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from typing import Annotated
+
+from fastapi import Depends, Request
+from sqlmodel import Session
+
+from .models import User
+from .security import CSRF_FIELD, CSRF_HEADER
+
+UNSAFE_METHODS = {"POST", "PUT", "PATCH", "DELETE"}
+
+
+class SignInRequired(Exception):
+    pass
+
+
+class Forbidden(Exception):
+    def __init__(self, message: str):
+        super().__init__(message)
+        self.message = message
+
+
+class CsrfRefused(Exception):
+    pass
+
+
+def get_db(request: Request) -> Iterator[Session]:
+    with Session(request.app.state.engine, expire_on_commit=False) as session:
+        yield session
+
+
+DB = Annotated[Session, Depends(get_db)]
+
+
+def current_user(request: Request, db: DB) -> User | None:
+    session = request.state.session
+    user = db.get(User, session.user_id) if session.user_id is not None else None
+    if user is not None and not user.active:
+        user = None
+    request.state.user = user
+    return user
+
+
+def signed_in(user: Annotated[User | None, Depends(current_user)]) -> User:
+    if user is None:
+        raise SignInRequired()
+    return user
+
+
+def _role(*roles: str):
+    def check(user: Annotated[User, Depends(signed_in)]) -> User:
+        if user.role not in roles:
+            raise Forbidden(f"this needs the role {' or '.join(roles)}; you are signed in as a {user.role}")
+        return user
+
+    return check
+
+
+Viewer = Annotated[User, Depends(signed_in)]
+Designer = Annotated[User, Depends(_role("designer", "admin"))]
+Admin = Annotated[User, Depends(_role("admin"))]
+MaybeUser = Annotated[User | None, Depends(current_user)]
+
+
+async def csrf_protect(request: Request) -> None:
+    """Every POST, PUT, PATCH and DELETE carries the token: in the X-CSRF-Token header (htmx and
+    the API) or the csrf_token form field (plain forms). Applied to the whole application."""
+    if request.method not in UNSAFE_METHODS:
+        return
+    token = request.headers.get(CSRF_HEADER)
+    if not token:
+        content_type = request.headers.get("content-type", "")
+        if content_type.startswith(("application/x-www-form-urlencoded", "multipart/form-data")):
+            form = await request.form()
+            value = form.get(CSRF_FIELD)
+            token = value if isinstance(value, str) else None
+    if not request.app.state.signer.csrf_valid(request.state.session, token):
+        raise CsrfRefused()

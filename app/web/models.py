@@ -1,0 +1,115 @@
+"""The tables, all in one place. Revisions are immutable once saved (see ``_refuse_update``)."""
+
+from __future__ import annotations
+
+from datetime import UTC, datetime
+from typing import Any
+
+from sqlalchemy import JSON, Column, DateTime, UniqueConstraint, event
+from sqlmodel import Field, SQLModel
+
+ROLES = ("designer", "reviewer", "admin")
+PART_KINDS = ("transistor", "diode", "zener", "tvs", "coil")
+
+
+def utcnow() -> datetime:
+    return datetime.now(UTC)
+
+
+def _when(**kw: Any):
+    return Field(default_factory=utcnow, sa_type=DateTime(timezone=True), **kw)
+
+
+class User(SQLModel, table=True):
+    __tablename__ = "user_account"
+    id: int | None = Field(default=None, primary_key=True)
+    name: str = Field(max_length=80, unique=True)
+    password_hash: str = Field(max_length=200)
+    role: str = Field(max_length=20)
+    active: bool = True
+    created_at: datetime = _when()
+
+
+class Part(SQLModel, table=True):
+    """A library part. ``params`` holds the values as entered (engineering notation kept), in the
+    design file's own field names, without the name; the engine's part models validate them."""
+
+    __table_args__ = (UniqueConstraint("kind", "name", name="uq_part_kind_name"),)
+    id: int | None = Field(default=None, primary_key=True)
+    kind: str = Field(max_length=20, index=True)
+    name: str = Field(max_length=200)
+    params: dict = Field(default_factory=dict, sa_column=Column(JSON, nullable=False))
+    notes: str = Field(default="", max_length=5000)
+    archived: bool = False
+    created_at: datetime = _when()
+    updated_at: datetime = _when()
+
+
+class Fixture(SQLModel, table=True):
+    """A panel, jig or machine whose outputs the channels drive."""
+
+    id: int | None = Field(default=None, primary_key=True)
+    name: str = Field(max_length=200, unique=True)
+    description: str = Field(default="", max_length=5000)
+    created_at: datetime = _when()
+
+
+class Channel(SQLModel, table=True):
+    """One driver stage of a fixture, e.g. "K3 heater contactor"."""
+
+    __table_args__ = (UniqueConstraint("fixture_id", "name", name="uq_channel_fixture_name"),)
+    id: int | None = Field(default=None, primary_key=True)
+    fixture_id: int = Field(foreign_key="fixture.id", index=True)
+    name: str = Field(max_length=200)
+    load: str = Field(default="", max_length=300, description="what the relay's contacts switch")
+    mains_load: bool = Field(default=False, description="the contacts switch mains voltage")
+    created_at: datetime = _when()
+
+
+class Revision(SQLModel, table=True):
+    """A saved design of a channel: the complete design document, with frozen part copies."""
+
+    # The unique constraint doubles as the index the "latest revision per channel" query uses.
+    __table_args__ = (UniqueConstraint("channel_id", "number", name="uq_revision_channel_number"),)
+    id: int | None = Field(default=None, primary_key=True)
+    channel_id: int = Field(foreign_key="channel.id")
+    number: int
+    label: str = Field(max_length=8)
+    document: dict = Field(sa_column=Column(JSON, nullable=False))
+    content_hash: str = Field(max_length=64, index=True)
+    author_id: int = Field(foreign_key="user_account.id")
+    change_note: str = Field(default="", max_length=5000)
+    source: str = Field(default="form", max_length=20)
+    created_at: datetime = _when()
+
+
+class RevisionPart(SQLModel, table=True):
+    """Which library part a revision copied into each slot (keeps used parts from deletion)."""
+
+    __tablename__ = "revision_part"
+    revision_id: int = Field(foreign_key="revision.id", primary_key=True)
+    slot: str = Field(max_length=20, primary_key=True)
+    part_id: int = Field(foreign_key="part.id", index=True)
+
+
+class Report(SQLModel, table=True):
+    """The engine's report for one design content hash and engine version (a cache)."""
+
+    __table_args__ = (UniqueConstraint("content_hash", "engine_version", name="uq_report_hash_version"),)
+    id: int | None = Field(default=None, primary_key=True)
+    content_hash: str = Field(max_length=64)
+    engine_version: str = Field(max_length=20)
+    verdict: str = Field(max_length=20)
+    violations: int
+    marginals: int
+    body: dict = Field(sa_column=Column(JSON, nullable=False))
+    created_at: datetime = _when()
+
+
+class ImmutableRevisionError(RuntimeError):
+    pass
+
+
+@event.listens_for(Revision, "before_update")
+def _refuse_update(mapper, connection, target):  # noqa: ARG001
+    raise ImmutableRevisionError("a saved revision cannot be changed; save a new revision instead")

@@ -1,0 +1,1 @@
+"""Thin routers: HTTP in, one service call, a template or JSON out."""

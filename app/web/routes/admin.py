@@ -1,0 +1,52 @@
+"""Admins manage accounts."""
+
+from __future__ import annotations
+
+from fastapi import APIRouter, Request
+from fastapi.responses import RedirectResponse
+
+from ..deps import DB, Admin
+from ..models import ROLES
+from ..services import users
+from ..services.errors import InputProblems
+from ..templating import render
+
+router = APIRouter(include_in_schema=False)
+
+
+def _page(request, db, errors=None, form=None, status_code=200):
+    return render(
+        request,
+        "users.html",
+        status_code=status_code,
+        users=users.list_users(db),
+        roles=ROLES,
+        errors=errors or {},
+        form=form or {},
+    )
+
+
+@router.get("/admin/users")
+def users_page(request: Request, db: DB, user: Admin):
+    return _page(request, db)
+
+
+@router.post("/admin/users")
+async def create_user(request: Request, db: DB, user: Admin):
+    form = await request.form()
+    values = {k: str(form.get(k, "")) for k in ("name", "password", "role")}
+    try:
+        users.create_user(db, values["name"], values["password"], values["role"])
+    except InputProblems as exc:
+        return _page(request, db, dict(exc.problems), {**values, "password": ""}, status_code=422)
+    return RedirectResponse("/admin/users", status_code=303)
+
+
+@router.post("/admin/users/{user_id}")
+async def update_user(request: Request, db: DB, user: Admin, user_id: int):
+    form = await request.form()
+    try:
+        users.update_user(db, user_id, str(form.get("role", "")), form.get("active") == "on", user.id)
+    except InputProblems as exc:
+        return _page(request, db, dict(exc.problems), status_code=422)
+    return RedirectResponse("/admin/users", status_code=303)

@@ -1,0 +1,76 @@
+"""Home, fixture and channel pages, and creating fixtures and channels."""
+
+from __future__ import annotations
+
+from fastapi import APIRouter, Request
+from fastapi.responses import RedirectResponse
+
+from ..deps import DB, Designer, Viewer
+from ..services import fixtures
+from ..services.errors import InputProblems
+from ..templating import render
+
+router = APIRouter(include_in_schema=False)
+
+
+@router.get("/")
+def home(request: Request, db: DB, user: Viewer):
+    return render(request, "home.html", overview=fixtures.overview(db), errors={}, form={})
+
+
+@router.post("/fixtures")
+async def create_fixture(request: Request, db: DB, user: Designer):
+    form = await request.form()
+    values = {k: str(form.get(k, "")) for k in ("name", "description")}
+    try:
+        fixture = fixtures.create_fixture(db, values["name"], values["description"])
+    except InputProblems as exc:
+        return render(
+            request,
+            "home.html",
+            status_code=422,
+            overview=fixtures.overview(db),
+            errors=dict(exc.problems),
+            form=values,
+        )
+    return RedirectResponse(f"/fixtures/{fixture.id}", status_code=303)
+
+
+@router.get("/fixtures/{fixture_id}")
+def fixture_page(request: Request, db: DB, user: Viewer, fixture_id: int):
+    [(fixture, channels)] = fixtures.overview(db, fixture_id)
+    return render(request, "fixture.html", fixture=fixture, channels=channels, errors={}, form={})
+
+
+@router.post("/fixtures/{fixture_id}/channels")
+async def create_channel(request: Request, db: DB, user: Designer, fixture_id: int):
+    form = await request.form()
+    values = {k: str(form.get(k, "")) for k in ("name", "load")}
+    mains = form.get("mains_load") in ("on", "true", "1")
+    try:
+        channel = fixtures.create_channel(db, fixture_id, values["name"], values["load"], mains)
+    except InputProblems as exc:
+        [(fixture, channels)] = fixtures.overview(db, fixture_id)
+        return render(
+            request,
+            "fixture.html",
+            status_code=422,
+            fixture=fixture,
+            channels=channels,
+            errors=dict(exc.problems),
+            form=values,
+        )
+    return RedirectResponse(f"/channels/{channel.id}", status_code=303)
+
+
+@router.get("/channels/{channel_id}")
+def channel_page(request: Request, db: DB, user: Viewer, channel_id: int):
+    channel = fixtures.get_channel(db, channel_id)
+    return render(
+        request,
+        "channel.html",
+        channel=channel,
+        fixture=fixtures.get_fixture(db, channel.fixture_id),
+        history=fixtures.history(db, channel_id),
+        upload_errors=[],
+    )

@@ -1,0 +1,173 @@
+"""The parts library pages: list and search, create, edit, remove, CSV import and export, and the
+picker the new-revision form swaps in through htmx."""
+
+from __future__ import annotations
+
+from fastapi import APIRouter, Request
+from fastapi.responses import RedirectResponse, Response
+
+from ..deps import DB, Designer, Viewer
+from ..models import PART_KINDS
+from ..services import parts
+from ..services.documents import SLOT_KINDS
+from ..services.errors import InputProblems
+from ..templating import render
+
+router = APIRouter(include_in_schema=False)
+
+
+def _kind(kind: str | None) -> str | None:
+    if kind in (None, ""):
+        return None
+    if kind not in PART_KINDS:
+        raise InputProblems([("kind", f"{kind!r} is not a part kind; allowed: {', '.join(PART_KINDS)}")], 400)
+    return kind
+
+
+@router.get("/parts")
+def parts_page(request: Request, db: DB, user: Viewer, kind: str = "", q: str = "", archived: bool = False):
+    found = parts.search_parts(db, _kind(kind), q, include_archived=archived)
+    template = "partials/_parts_table.html" if request.headers.get("HX-Request") else "parts.html"
+    return render(
+        request,
+        template,
+        parts=found,
+        kind=kind,
+        q=q,
+        archived=archived,
+        kinds=PART_KINDS,
+        titles=parts.KIND_TITLES,
+        import_errors=[],
+        imported=None,
+    )
+
+
+@router.get("/parts/picker")
+def part_picker(request: Request, db: DB, user: Viewer, slot: str, q: str = ""):
+    if slot not in SLOT_KINDS:
+        raise InputProblems([("slot", f"{slot!r} is not a part slot; allowed: {', '.join(SLOT_KINDS)}")], 400)
+    selected = request.query_params.get(slot, "")
+    found = parts.search_parts(db, SLOT_KINDS[slot], q, limit=50)
+    if selected.isdigit() and all(str(p.id) != selected for p in found):
+        chosen = db.get(parts.Part, int(selected))
+        if chosen is not None and chosen.kind == SLOT_KINDS[slot]:
+            found.insert(0, chosen)
+    return render(
+        request, "partials/_part_picker.html", slot=slot, options=found, selected=selected, errors={}
+    )
+
+
+def _form(kind: str, part=None, values=None, errors=None, status_code=200, request=None):
+    return render(
+        request,
+        "part_form.html",
+        status_code=status_code,
+        kind=kind,
+        part=part,
+        fields=parts.param_fields(kind),
+        values=values or {},
+        errors=errors or {},
+        title=parts.KIND_TITLES[kind],
+    )
+
+
+@router.get("/parts/new")
+def new_part_page(request: Request, user: Designer, kind: str = "transistor"):
+    return _form(_kind(kind) or "transistor", request=request)
+
+
+def _values(form, kind: str) -> dict[str, str]:
+    names = ["name", "notes"] + [name for name, _ in parts.param_fields(kind)]
+    return {name: str(form.get(name, "")) for name in names}
+
+
+def _params(values: dict[str, str]) -> dict[str, str]:
+    return {k: v for k, v in values.items() if k not in ("name", "notes")}
+
+
+@router.post("/parts")
+async def create_part(request: Request, db: DB, user: Designer):
+    form = await request.form()
+    kind = _kind(str(form.get("kind", ""))) or "transistor"
+    values = _values(form, kind)
+    try:
+        part = parts.create_part(db, kind, values["name"], _params(values), values["notes"])
+    except InputProblems as exc:
+        return _form(kind, values=values, errors=dict(exc.problems), status_code=422, request=request)
+    return RedirectResponse(f"/parts?kind={part.kind}", status_code=303)
+
+
+@router.get("/parts/export.csv")
+def export_parts(db: DB, user: Viewer, kind: str):
+    kind = _kind(kind) or "transistor"
+    return Response(
+        parts.export_csv(db, kind),
+        media_type="text/csv; charset=utf-8",
+        headers={"Content-Disposition": f'attachment; filename="parts-{kind}.csv"'},
+    )
+
+
+@router.post("/parts/import")
+async def import_parts(request: Request, db: DB, user: Designer):
+    form = await request.form()
+    kind = _kind(str(form.get("kind", ""))) or "transistor"
+    upload = form.get("file")
+    problems: list[str] = []
+    imported = None
+    if upload is None or isinstance(upload, str) or not upload.filename:
+        problems.append("file: choose a CSV file whose first row names the columns")
+    else:
+        try:
+            text = (await upload.read(2_000_001)).decode("utf-8-sig")
+            imported = parts.import_csv(db, kind, text)
+        except UnicodeDecodeError:
+            problems.append("file: not UTF-8 text")
+        except InputProblems as exc:
+            problems += [f"{p}: {m}" for p, m in exc.problems]
+    found = parts.search_parts(db, kind)
+    return render(
+        request,
+        "parts.html",
+        status_code=422 if problems else 200,
+        parts=found,
+        kind=kind,
+        q="",
+        archived=False,
+        kinds=PART_KINDS,
+        titles=parts.KIND_TITLES,
+        import_errors=problems,
+        imported=imported,
+    )
+
+
+@router.get("/parts/{part_id}/edit")
+def edit_part_page(request: Request, db: DB, user: Designer, part_id: int):
+    part = parts.get_part(db, part_id)
+    values = {"name": part.name, "notes": part.notes, **{k: str(v) for k, v in part.params.items()}}
+    return _form(part.kind, part=part, values=values, request=request)
+
+
+@router.post("/parts/{part_id}")
+async def update_part(request: Request, db: DB, user: Designer, part_id: int):
+    part = parts.get_part(db, part_id)
+    values = _values(await request.form(), part.kind)
+    try:
+        parts.update_part(db, part_id, values["name"], _params(values), values["notes"])
+    except InputProblems as exc:
+        return _form(
+            part.kind, part=part, values=values, errors=dict(exc.problems), status_code=422, request=request
+        )
+    return RedirectResponse(f"/parts?kind={part.kind}", status_code=303)
+
+
+@router.post("/parts/{part_id}/remove")
+def remove_part(db: DB, user: Designer, part_id: int):
+    kind = parts.get_part(db, part_id).kind
+    outcome = parts.remove_part(db, part_id)
+    return RedirectResponse(f"/parts?kind={kind}&removed={outcome}", status_code=303)
+
+
+@router.post("/parts/{part_id}/restore")
+def restore_part(db: DB, user: Designer, part_id: int):
+    part = parts.restore_part(db, part_id)
+    return RedirectResponse(f"/parts?kind={part.kind}", status_code=303)

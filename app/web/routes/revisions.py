@@ -1,0 +1,186 @@
+"""Revision pages: read, download, the new-revision form with its live preview, and upload."""
+
+from __future__ import annotations
+
+import json
+
+from fastapi import APIRouter, Request
+from fastapi.responses import RedirectResponse, Response
+
+from app.engine import DesignError
+
+from ..deps import DB, Designer, Viewer
+from ..services import fixtures, revision_form, revisions
+from ..services.documents import canonical_json
+from ..services.errors import InputProblems
+from ..services.parts import search_parts
+from ..services.reports import evaluate_document
+from ..templating import render
+
+router = APIRouter(include_in_schema=False)
+
+
+@router.get("/revisions/{revision_id}")
+def revision_page(request: Request, db: DB, user: Viewer, revision_id: int):
+    view = revisions.revision_view(db, revision_id)
+    return render(
+        request,
+        "revision.html",
+        view=view,
+        report=view.report.body,
+        parts=revisions.frozen_parts(view.revision.document),
+        inputs=_inputs(view.revision.document),
+    )
+
+
+def _inputs(document: dict) -> list[tuple[str, str]]:
+    """The design's own values (parts listed separately), flattened to field paths."""
+    out = []
+
+    def walk(prefix: str, node):
+        for key, value in node.items():
+            path = f"{prefix}.{key}" if prefix else key
+            if path in ("format", "switch", "coil", "clamp.diode", "clamp.zener", "clamp.tvs", "notes"):
+                continue
+            if isinstance(value, dict):
+                walk(path, value)
+            else:
+                out.append((path, str(value)))
+
+    walk("", document)
+    return out
+
+
+@router.get("/revisions/{revision_id}/design.json")
+def download_design(db: DB, user: Viewer, revision_id: int):
+    """The stored document, byte for byte what was hashed apart from indentation."""
+    revision = revisions.get_revision(db, revision_id)
+    channel = fixtures.get_channel(db, revision.channel_id)
+    filename = f"channel-{channel.id}-rev-{revision.label}.json"
+    body = json.dumps(revision.document, indent=2, ensure_ascii=False) + "\n"
+    return Response(
+        body,
+        media_type="application/json",
+        headers={
+            "Content-Disposition": f'attachment; filename="{filename}"',
+            "X-Content-SHA256": revision.content_hash,
+        },
+    )
+
+
+def _form_context(db, channel_id: int, values: dict[str, str], errors: dict[str, list[str]]) -> dict:
+    channel = fixtures.get_channel(db, channel_id)
+    pickers = {
+        slot: search_parts(db, revision_form.SLOT_KINDS[slot], "", limit=50)
+        for slot in revision_form.PART_SLOTS
+    }
+    return {
+        "channel": channel,
+        "fixture": fixtures.get_fixture(db, channel.fixture_id),
+        "sections": revision_form.SECTIONS,
+        "values": values,
+        "errors": errors,
+        "pickers": pickers,
+        "slot_kinds": revision_form.SLOT_KINDS,
+        "applies": revision_form.applies,
+    }
+
+
+def _preview(db, values: dict[str, str]) -> tuple[dict | None, dict[str, list[str]]]:
+    try:
+        document, _ = revision_form.build_document(db, values)
+    except InputProblems as exc:
+        return None, revision_form.problems_by_field(exc.problems)
+    return evaluate_document(document), {}
+
+
+@router.get("/channels/{channel_id}/new")
+def new_revision_page(request: Request, db: DB, user: Designer, channel_id: int):
+    channel = fixtures.get_channel(db, channel_id)
+    latest = revisions.latest_revision(db, channel_id)
+    if latest is not None:
+        values = revision_form.values_from_document(db, latest.document, revisions.part_links(db, latest.id))
+    else:
+        values = {path: "" for path in revision_form.FIELDS}
+        values.update({"name": channel.name, "drive.kind": "logic", "clamp.kind": "diode"})
+    values["change_note"] = ""
+    report, errors = _preview(db, values) if latest is not None else (None, {})
+    return render(
+        request,
+        "revision_new.html",
+        latest=latest,
+        report=report,
+        **_form_context(db, channel_id, values, errors),
+    )
+
+
+@router.post("/channels/{channel_id}/preview")
+async def preview(request: Request, db: DB, user: Designer, channel_id: int):
+    values = revision_form.values_from_form(await request.form())
+    report, errors = _preview(db, values)
+    context = _form_context(db, channel_id, values, errors)
+    refresh_fields = request.headers.get("HX-Trigger-Name") in ("drive.kind", "clamp.kind")
+    return render(
+        request, "partials/_preview_swap.html", report=report, refresh_fields=refresh_fields, **context
+    )
+
+
+@router.post("/channels/{channel_id}/revisions")
+async def save_revision(request: Request, db: DB, user: Designer, channel_id: int):
+    form = await request.form()
+    values = revision_form.values_from_form(form)
+    values["change_note"] = str(form.get("change_note", "")).strip()
+    try:
+        document, links = revision_form.build_document(db, values)
+        revision = revisions.create_revision(
+            db, channel_id, document, user, values["change_note"], source="form", part_links=links
+        )
+    except InputProblems as exc:
+        report, _ = _preview(db, values)
+        context = _form_context(db, channel_id, values, revision_form.problems_by_field(exc.problems))
+        return render(request, "revision_new.html", status_code=422, latest=None, report=report, **context)
+    return RedirectResponse(f"/revisions/{revision.id}", status_code=303)
+
+
+MAX_UPLOAD = 1_000_000
+
+
+@router.post("/channels/{channel_id}/upload")
+async def upload_revision(request: Request, db: DB, user: Designer, channel_id: int):
+    form = await request.form()
+    upload = form.get("file")
+    change_note = str(form.get("change_note", ""))
+    problems: list[str] = []
+    document = None
+    if upload is None or isinstance(upload, str) or not upload.filename:
+        problems.append("file: choose a design file (JSON, clampdown-design/1)")
+    else:
+        raw = await upload.read(MAX_UPLOAD + 1)
+        if len(raw) > MAX_UPLOAD:
+            problems.append(f"file: larger than {MAX_UPLOAD // 1000} kB; a design file is a few kB")
+        else:
+            try:
+                document = json.loads(raw.decode("utf-8"))
+            except (UnicodeDecodeError, json.JSONDecodeError) as exc:
+                problems.append(f"file: not JSON ({exc})")
+    if document is not None:
+        try:
+            revision = revisions.create_revision(db, channel_id, document, user, change_note, source="upload")
+            return RedirectResponse(f"/revisions/{revision.id}", status_code=303)
+        except InputProblems as exc:
+            problems += [f"{p}: {m}" for p, m in exc.problems]
+        except DesignError as exc:  # pragma: no cover - create_revision converts these
+            problems += exc.problems
+    channel = fixtures.get_channel(db, channel_id)
+    return render(
+        request,
+        "channel.html",
+        status_code=422,
+        channel=channel,
+        fixture=fixtures.get_fixture(db, channel.fixture_id),
+        history=fixtures.history(db, channel_id),
+        upload_errors=problems,
+    )
+
+
+__all__ = ["canonical_json", "router"]

@@ -1,0 +1,36 @@
+"""Errors services raise for bad input: each problem names a field path and what is allowed."""
+
+from __future__ import annotations
+
+
+class InputProblems(Exception):
+    """Bad input; ``problems`` is a list of (field path, message). Routes answer 4xx with it."""
+
+    def __init__(self, problems: list[tuple[str, str]], status_code: int = 422):
+        super().__init__("; ".join(f"{path}: {message}" for path, message in problems))
+        self.problems = problems
+        self.status_code = status_code
+
+    def as_detail(self) -> list[dict]:
+        """The FastAPI-style error list: loc (the field path split on dots), msg."""
+        return [
+            {"loc": path.split("."), "msg": message, "type": "value_error"} for path, message in self.problems
+        ]
+
+
+class NotFound(Exception):
+    def __init__(self, what: str):
+        super().__init__(f"{what} not found")
+        self.what = what
+
+
+def split_problem(line: str, prefix: str = "") -> tuple[str, str]:
+    """ "coil.inductance: "-3" must be positive" -> ("coil.inductance", '"-3" must be positive')."""
+    path, sep, message = line.partition(": ")
+    if not sep:
+        return (prefix or "(design)", line)
+    if path == "(design)" and prefix:
+        path = prefix
+    elif prefix:
+        path = f"{prefix}.{path}"
+    return (path, message)

@@ -1,0 +1,161 @@
+"""Fixtures and their channels, and the overview the home page shows."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import datetime
+
+from sqlalchemy import and_, func
+from sqlmodel import Session, select
+
+from app.engine import ENGINE_VERSION
+
+from ..models import Channel, Fixture, Report, Revision, User
+from .errors import InputProblems, NotFound
+from .reports import cached_report
+
+
+def _text(field: str, value: str, limit: int, required: bool = True) -> str:
+    value = (value or "").strip()
+    if required and not value:
+        raise InputProblems([(field, "must not be empty")])
+    if len(value) > limit:
+        raise InputProblems([(field, f"is too long (at most {limit} characters)")])
+    return value
+
+
+def create_fixture(db: Session, name: str, description: str = "") -> Fixture:
+    name = _text("name", name, 200)
+    description = _text("description", description, 5000, required=False)
+    if db.exec(select(Fixture).where(func.lower(Fixture.name) == name.lower())).first():
+        raise InputProblems([("name", f"a fixture named {name!r} already exists")])
+    fixture = Fixture(name=name, description=description)
+    db.add(fixture)
+    db.commit()
+    db.refresh(fixture)
+    return fixture
+
+
+def create_channel(
+    db: Session, fixture_id: int, name: str, load: str = "", mains_load: bool = False
+) -> Channel:
+    fixture = get_fixture(db, fixture_id)
+    name = _text("name", name, 200)
+    load = _text("load", load, 300, required=False)
+    taken = select(Channel).where(Channel.fixture_id == fixture.id, func.lower(Channel.name) == name.lower())
+    if db.exec(taken).first():
+        raise InputProblems([("name", f"{fixture.name} already has a channel named {name!r}")])
+    channel = Channel(fixture_id=fixture.id, name=name, load=load, mains_load=bool(mains_load))
+    db.add(channel)
+    db.commit()
+    db.refresh(channel)
+    return channel
+
+
+def get_fixture(db: Session, fixture_id: int) -> Fixture:
+    fixture = db.get(Fixture, fixture_id)
+    if fixture is None:
+        raise NotFound(f"fixture {fixture_id}")
+    return fixture
+
+
+def get_channel(db: Session, channel_id: int) -> Channel:
+    channel = db.get(Channel, channel_id)
+    if channel is None:
+        raise NotFound(f"channel {channel_id}")
+    return channel
+
+
+def list_fixtures(db: Session) -> list[Fixture]:
+    return list(db.exec(select(Fixture).order_by(Fixture.name)))
+
+
+@dataclass
+class RevisionStatus:
+    """A revision's row in a list: no document, just what the lists show."""
+
+    id: int
+    channel_id: int
+    label: str
+    created_at: datetime
+    author: str
+    change_note: str
+    content_hash: str
+    verdict: str | None
+    violations: int | None
+    marginals: int | None
+
+
+@dataclass
+class ChannelStatus:
+    channel: Channel
+    latest: RevisionStatus | None
+
+
+def _status_columns():
+    return (
+        Revision.id,
+        Revision.channel_id,
+        Revision.label,
+        Revision.created_at,
+        User.name,
+        Revision.change_note,
+        Revision.content_hash,
+        Report.verdict,
+        Report.violations,
+        Report.marginals,
+    )
+
+
+def _with_report(query):
+    return query.join(User, User.id == Revision.author_id).outerjoin(
+        Report, and_(Report.content_hash == Revision.content_hash, Report.engine_version == ENGINE_VERSION)
+    )
+
+
+def _fill_missing(db: Session, rows: list[RevisionStatus]) -> None:
+    """Reports not cached for this engine version yet (e.g. after an engine upgrade)."""
+    for row in rows:
+        if row.verdict is None:
+            document = db.exec(select(Revision.document).where(Revision.id == row.id)).one()
+            report = cached_report(db, row.content_hash, document)
+            row.verdict, row.violations, row.marginals = report.verdict, report.violations, report.marginals
+
+
+def overview(db: Session, fixture_id: int | None = None) -> list[tuple[Fixture, list[ChannelStatus]]]:
+    """Every fixture with each channel's latest revision and its counts, in three queries."""
+    fixtures = [get_fixture(db, fixture_id)] if fixture_id is not None else list_fixtures(db)
+    ids = [f.id for f in fixtures]
+    channels = (
+        list(db.exec(select(Channel).where(Channel.fixture_id.in_(ids)).order_by(Channel.name)))
+        if ids
+        else []
+    )
+    latest = (
+        select(Revision.channel_id, func.max(Revision.number).label("number"))
+        .join(Channel, Channel.id == Revision.channel_id)
+        .where(Channel.fixture_id.in_(ids))
+        .group_by(Revision.channel_id)
+        .subquery()
+    )
+    query = _with_report(
+        select(*_status_columns()).join(
+            latest, and_(latest.c.channel_id == Revision.channel_id, latest.c.number == Revision.number)
+        )
+    )
+    rows = [RevisionStatus(*row) for row in db.exec(query)] if ids else []
+    _fill_missing(db, rows)
+    by_channel = {row.channel_id: row for row in rows}
+    out = []
+    for fixture in fixtures:
+        mine = [ChannelStatus(c, by_channel.get(c.id)) for c in channels if c.fixture_id == fixture.id]
+        out.append((fixture, mine))
+    return out
+
+
+def history(db: Session, channel_id: int) -> list[RevisionStatus]:
+    """A channel's revisions, newest first, with the status of each."""
+    query = _with_report(select(*_status_columns())).where(Revision.channel_id == channel_id)
+    rows = [RevisionStatus(*row) for row in db.exec(query.order_by(Revision.number.desc()))]
+    _fill_missing(db, rows)
+    return rows

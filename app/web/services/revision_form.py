@@ -1,0 +1,207 @@
+"""The new-revision form: its fields, form values -> design document, and back for pre-filling."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from sqlmodel import Session, select
+
+from app.engine.design import CLAMP_KINDS
+
+from ..models import Part
+from .documents import SLOT_KINDS, get_path, part_document, set_path, typed_value
+from .errors import InputProblems, split_problem
+from .revisions import validate_document
+
+
+@dataclass(frozen=True)
+class FormField:
+    path: str
+    label: str
+    unit: str = ""
+    widget: str = "text"  # text, textarea, select, part
+    options: tuple[str, ...] = ()
+    when: str = ""  # "drive.kind=logic" or "clamp.kind=diode,diode_zener"
+    hint: str = ""
+
+
+@dataclass(frozen=True)
+class Section:
+    title: str
+    fields: tuple[FormField, ...] = field(default_factory=tuple)
+
+
+F = FormField
+SECTIONS = (
+    Section("Design", (F("name", "Design name"), F("notes", "Notes", widget="textarea"))),
+    Section(
+        "Supply and ambient",
+        (
+            F("supply.nominal", "Supply, nominal", "V"),
+            F("supply.tolerance", "Supply tolerance", "%", hint="or give min and max"),
+            F("supply.min", "Supply min", "V"),
+            F("supply.max", "Supply max", "V"),
+            F("ambient.min", "Ambient min", "°C"),
+            F("ambient.max", "Ambient max", "°C"),
+        ),
+    ),
+    Section(
+        "Drive",
+        (
+            F("drive.kind", "Drive", widget="select", options=("logic", "divider")),
+            F("drive.high", "High level", "V", when="drive.kind=logic"),
+            F("drive.high_min", "High level, min", "V", when="drive.kind=logic"),
+            F("drive.low", "Low level", "V", when="drive.kind=logic"),
+            F("drive.low_max", "Low level, max", "V", when="drive.kind=logic"),
+            F("drive.r_out", "Output resistance", "Ω", when="drive.kind=logic"),
+            F("drive.i_max", "Max source current", "A", when="drive.kind=logic"),
+            F("drive.v_source", "Divider source", "V", when="drive.kind=divider", hint="blank: the supply"),
+            F("drive.r_fixed", "Fixed resistor", "Ω", when="drive.kind=divider"),
+            F(
+                "drive.sensor_position",
+                "Sensor at",
+                widget="select",
+                options=("top", "bottom"),
+                when="drive.kind=divider",
+            ),
+            F("drive.r_sensor_on", "Sensor, on state", "Ω", when="drive.kind=divider"),
+            F("drive.r_sensor_off", "Sensor, off state", "Ω", when="drive.kind=divider"),
+            F("drive.tolerance", "Divider tolerance", "%", when="drive.kind=divider"),
+        ),
+    ),
+    Section(
+        "Base",
+        (
+            F("base.r_series", "Base resistor R_b", "Ω"),
+            F("base.r_pulldown", "Pull-down R_be", "Ω", hint="blank: none"),
+            F("base.tolerance", "Resistor tolerance", "%"),
+            F("base.power_rating", "R_b power rating", "W"),
+        ),
+    ),
+    Section(
+        "Switch and coil", (F("switch", "NPN transistor", widget="part"), F("coil", "Coil", widget="part"))
+    ),
+    Section(
+        "Clamp",
+        (
+            F("clamp.kind", "Clamp", widget="select", options=CLAMP_KINDS),
+            F("clamp.diode", "Diode", widget="part", when="clamp.kind=diode,diode_zener,diode_resistor"),
+            F("clamp.zener", "Zener", widget="part", when="clamp.kind=diode_zener"),
+            F("clamp.tvs", "TVS", widget="part", when="clamp.kind=tvs_switch"),
+            F("clamp.r", "Clamp resistor", "Ω", when="clamp.kind=diode_resistor,resistor"),
+            F("clamp.tolerance", "Clamp resistor tolerance", "%", when="clamp.kind=diode_resistor,resistor"),
+        ),
+    ),
+    Section(
+        "Use and requirements",
+        (
+            F("switching.per_hour", "Operations per hour", "/h"),
+            F("requirements.max_release_time", "Max release time", "s"),
+        ),
+    ),
+    Section(
+        "Derating overrides (blank: the default profile)",
+        (
+            F("limits.voltage", "Voltage fraction"),
+            F("limits.current", "Current fraction"),
+            F("limits.power", "Power fraction"),
+            F("limits.tj", "Junction limit", "°C"),
+            F("limits.overdrive", "Min overdrive", "×"),
+            F("limits.pickup_margin", "Pick-up margin", "fraction"),
+            F("limits.cutoff", "Cutoff fraction"),
+        ),
+    ),
+)
+FIELDS = {f.path: f for section in SECTIONS for f in section.fields}
+PART_SLOTS = [f.path for f in FIELDS.values() if f.widget == "part"]
+
+
+def applies(f: FormField, values: dict[str, str]) -> bool:
+    if not f.when:
+        return True
+    path, _, allowed = f.when.partition("=")
+    return values.get(path, "") in allowed.split(",")
+
+
+def values_from_form(form) -> dict[str, str]:
+    """The form's text values by field path (part slots hold a library part id)."""
+    return {path: str(form.get(path, "") or "").strip() for path in FIELDS}
+
+
+def build_document(db: Session, values: dict[str, str]) -> tuple[dict, dict[str, int]]:
+    """Turn form values into a design document with frozen copies of the chosen parts.
+
+    Raises InputProblems keyed by form field path (a problem inside a part goes beside it)."""
+    document: dict = {"format": "clampdown-design/1"}
+    links: dict[str, int] = {}
+    problems: list[tuple[str, str]] = []
+    for f in FIELDS.values():
+        if not applies(f, values):
+            continue
+        text = values.get(f.path, "")
+        if f.widget == "part":
+            if not text:
+                problems.append((f.path, "pick a part from the library"))
+                continue
+            part = db.get(Part, int(text)) if text.isdigit() else None
+            if part is None or part.kind != SLOT_KINDS[f.path]:
+                problems.append((f.path, f"no {SLOT_KINDS[f.path]} with id {text!r} in the library"))
+                continue
+            if part.archived:
+                problems.append((f.path, f"{part.name!r} is archived; pick a current part"))
+                continue
+            set_path(document, f.path, part_document(part))
+            links[f.path] = part.id
+        elif text:
+            set_path(
+                document, f.path, text if f.widget in ("textarea",) or f.path == "name" else typed_value(text)
+            )
+    if values.get("clamp.kind") and "clamp" not in document:
+        document["clamp"] = {"kind": values["clamp.kind"]}
+    if problems:
+        raise InputProblems(problems)
+    try:
+        validate_document(document)
+    except InputProblems as exc:
+        raise InputProblems([(field_for(path), message) for path, message in exc.problems]) from None
+    return document, links
+
+
+def field_for(path: str) -> str:
+    """The form field a problem belongs beside: the longest field path that is a prefix."""
+    best = ""
+    for candidate in FIELDS:
+        if (path == candidate or path.startswith(candidate + ".")) and len(candidate) > len(best):
+            best = candidate
+    return best or path
+
+
+def problems_by_field(problems: list[tuple[str, str]]) -> dict[str, list[str]]:
+    out: dict[str, list[str]] = {}
+    for path, message in problems:
+        out.setdefault(field_for(path), []).append(
+            message if field_for(path) == path else f"{path}: {message}"
+        )
+    return out
+
+
+def values_from_document(db: Session, document: dict, links: dict[str, int]) -> dict[str, str]:
+    """Pre-fill values from a stored revision; parts by the library part it copied, else by name."""
+    values: dict[str, str] = {}
+    for f in FIELDS.values():
+        if f.widget == "part":
+            part_id = links.get(f.path)
+            if part_id is None:
+                name = get_path(document, f.path + ".name")
+                if isinstance(name, str):
+                    part_id = db.exec(
+                        select(Part.id).where(Part.kind == SLOT_KINDS[f.path], Part.name == name)
+                    ).first()
+            values[f.path] = str(part_id) if part_id is not None else ""
+        else:
+            value = get_path(document, f.path)
+            values[f.path] = "" if value is None or isinstance(value, dict) else str(value)
+    return values
+
+
+__all__ = ["SECTIONS", "build_document", "split_problem", "values_from_document"]

@@ -1,0 +1,63 @@
+"""The Jinja environment (autoescaping on for every template) and its filters."""
+
+from __future__ import annotations
+
+from datetime import datetime
+
+from fastapi import Request
+from fastapi.templating import Jinja2Templates
+from jinja2 import Environment, FileSystemLoader
+
+from app.engine import ENGINE_VERSION
+from app.engine.rules import RULES
+from app.engine.units import format_si
+
+from .config import REPO_ROOT
+
+# Our own status wording: the label says it in words, the mark says it in shape, so neither
+# colour nor a legend is needed to read a finding (print, greyscale, colour-blind readers).
+STATUS = {
+    "violation": {"label": "Exceeds rating", "mark": "✕", "short": "EXCEEDS"},
+    "marginal": {"label": "Past derating", "mark": "▲", "short": "PAST DERATING"},
+    "ok": {"label": "Within limits", "mark": "✓", "short": "WITHIN"},
+    "note": {"label": "Note", "mark": "i", "short": "NOTE"},
+}
+
+
+def si(value, unit: str = "", digits: int = 3) -> str:
+    if value is None:
+        return "—"
+    if unit == "×":
+        return f"{value:.{digits}g}×"
+    if unit == "s" and value is not None:
+        return format_si(value, "s", digits)
+    return format_si(value, unit, digits)
+
+
+def when(value: datetime | None) -> str:
+    return value.strftime("%Y-%m-%d %H:%M UTC") if value else "—"
+
+
+def formula(rule_id: str) -> str:
+    registered = RULES.get(rule_id)
+    return registered.formula if registered else ""
+
+
+def make_templates() -> Jinja2Templates:
+    env = Environment(
+        loader=FileSystemLoader(str(REPO_ROOT / "templates")),
+        autoescape=True,
+        trim_blocks=True,
+        lstrip_blocks=True,
+    )
+    env.filters.update(si=si, when=when)
+    env.globals.update(STATUS=STATUS, formula=formula, ENGINE_VERSION=ENGINE_VERSION)
+    return Jinja2Templates(env=env)
+
+
+def render(request: Request, template: str, /, status_code: int = 200, **context):
+    """Render a page or partial with the signed-in user and the CSRF token in the context."""
+    session = request.state.session
+    context.setdefault("user", getattr(request.state, "user", None))
+    context["csrf_token"] = request.app.state.signer.csrf_token(session)
+    return request.app.state.templates.TemplateResponse(request, template, context, status_code=status_code)
