@@ -146,3 +146,22 @@ def _install_error_handlers(app: FastAPI) -> None:
         if _wants_json(request):
             return JSONResponse({"detail": exc.detail}, status_code=exc.status_code)
         return _error_page(request, exc.status_code, str(exc.detail), [])
+
+
+def route_table(app: FastAPI) -> list[tuple[str, str]]:
+    """Every (method, path) the application serves through its routers, with prefixes applied.
+    Tests walk it to prove each route is authorised and CSRF-checked."""
+    from fastapi.routing import APIRoute
+
+    out: list[tuple[str, str]] = []
+
+    def walk(routes, prefix: str) -> None:
+        for route in routes:
+            original = getattr(route, "original_router", None)
+            if original is not None:  # an included router (FastAPI keeps it as one entry)
+                walk(original.routes, prefix + route.include_context.prefix)
+            elif isinstance(route, APIRoute):
+                out.extend((method, prefix + route.path) for method in sorted(route.methods - {"HEAD"}))
+
+    walk(app.routes, "")
+    return out
