@@ -12,6 +12,7 @@ from sqlmodel import Session, select
 from app.engine.design import Coil, DesignError, Diode, Transistor, Tvs, Zener, parse_part
 
 from ..models import PART_KINDS, Part, RevisionPart, utcnow
+from .documents import typed_value
 from .errors import InputProblems, NotFound, split_problem
 
 PART_MODELS = {"transistor": Transistor, "diode": Diode, "zener": Zener, "tvs": Tvs, "coil": Coil}
@@ -52,7 +53,7 @@ def clean_params(kind: str, params: dict) -> dict:
             continue
         if value is None or (isinstance(value, str) and not value.strip()):
             continue
-        kept[key] = value.strip() if isinstance(value, str) else value
+        kept[key] = typed_value(value) if isinstance(value, str) else value
     if problems:
         raise InputProblems(problems)
     return kept
@@ -80,7 +81,7 @@ def validate_part(kind: str, name: str, params: dict) -> dict:
 
 
 def _name_taken(db: Session, kind: str, name: str, except_id: int | None = None) -> bool:
-    query = select(Part.id).where(Part.kind == kind, func.lower(Part.name) == name.lower())
+    query = select(Part.id).where(Part.kind == kind, Part.name == name)
     if except_id is not None:
         query = query.where(Part.id != except_id)
     return db.exec(query).first() is not None
@@ -210,9 +211,7 @@ def import_csv(db: Session, kind: str, text: str) -> dict[str, int]:
         raise InputProblems(problems)
     created = updated = 0
     for name, kept, notes in rows:
-        existing = db.exec(
-            select(Part).where(Part.kind == kind, func.lower(Part.name) == name.lower())
-        ).first()
+        existing = db.exec(select(Part).where(Part.kind == kind, Part.name == name)).first()
         if existing:
             existing.params, existing.notes, existing.updated_at = kept, notes, utcnow()
             db.add(existing)

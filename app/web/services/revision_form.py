@@ -158,12 +158,14 @@ def build_document(db: Session, values: dict[str, str]) -> tuple[dict, dict[str,
             )
     if values.get("clamp.kind") and "clamp" not in document:
         document["clamp"] = {"kind": values["clamp.kind"]}
-    if problems:
-        raise InputProblems(problems)
     try:
         validate_document(document)
     except InputProblems as exc:
-        raise InputProblems([(field_for(path), message) for path, message in exc.problems]) from None
+        # Report every field at once; a slot with no part already says so, once.
+        flagged = {path for path, _ in problems}
+        problems += [(path, message) for path, message in exc.problems if field_for(path) not in flagged]
+    if problems:
+        raise InputProblems(problems)
     return document, links
 
 

@@ -1,0 +1,61 @@
+"""`clampdown user add`, `clampdown demo`, and the settings they read."""
+
+import subprocess
+import sys
+
+from sqlmodel import Session, select
+
+from app.web.config import Settings
+from app.web.db import make_engine
+from app.web.models import Revision, User
+
+
+def _run(args, env_dir, stdin=""):
+    env = {"PATH": "/usr/bin:/bin", "CLAMPDOWN_DATA_DIR": str(env_dir), "HOME": str(env_dir)}
+    code = "import sys; from app.cli import main; raise SystemExit(main(sys.argv[1:]))"
+    return subprocess.run(
+        [sys.executable, "-c", code, *args], input=stdin, capture_output=True, text=True, env=env, cwd="."
+    )
+
+
+def test_user_add_creates_an_account_with_the_role(tmp_path):
+    result = _run(["user", "add", "kim", "--role", "reviewer"], tmp_path, stdin="a-long-password\n")
+    assert result.returncode == 0, result.stderr
+    engine = make_engine(f"sqlite:///{tmp_path / 'clampdown.sqlite3'}")
+    with Session(engine) as db:
+        assert db.exec(select(User.role).where(User.name == "kim")).one() == "reviewer"
+
+
+def test_user_add_with_an_unknown_role_exits_2_naming_the_roles(tmp_path):
+    result = _run(["user", "add", "kim", "--role", "boss"], tmp_path, stdin="a-long-password\n")
+    assert result.returncode == 2
+    assert "role: 'boss' is not a role; allowed: designer, reviewer, admin" in result.stderr
+
+
+def test_demo_builds_a_fresh_database_and_prints_the_sign_ins(tmp_path):
+    result = _run(["demo", "--data-dir", str(tmp_path / "demo"), "--no-serve"], tmp_path)
+    assert result.returncode == 0, result.stderr
+    assert (
+        "http://127.0.0.1:8000/" in result.stdout and "dana" in result.stdout and "reviewer" in result.stdout
+    )
+    engine = make_engine(f"sqlite:///{tmp_path / 'demo' / 'demo.sqlite3'}")
+    with Session(engine) as db:
+        assert len(db.exec(select(Revision)).all()) == 8
+
+
+def test_secret_key_is_generated_once_and_kept(tmp_path):
+    first = Settings(data_dir=tmp_path).resolved()
+    second = Settings(data_dir=tmp_path).resolved()
+    assert first.secret_key == second.secret_key and len(first.secret_key) > 40
+    assert (tmp_path / "secret_key").stat().st_mode & 0o077 == 0
+
+
+def test_default_database_is_a_sqlite_file_in_the_data_dir(tmp_path):
+    assert (
+        Settings(data_dir=tmp_path).resolved().database_url == f"sqlite:///{tmp_path / 'clampdown.sqlite3'}"
+    )
+
+
+def test_plain_postgresql_urls_use_psycopg(tmp_path):
+    url = Settings(data_dir=tmp_path, database_url="postgresql://u@h/db").resolved().database_url
+    assert url == "postgresql+psycopg://u@h/db"

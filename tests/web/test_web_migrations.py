@@ -1,0 +1,58 @@
+"""Migrations: an empty database reaches head, and the models match what the migrations build."""
+
+import os
+import uuid
+
+import pytest
+from alembic.autogenerate import compare_metadata
+from alembic.migration import MigrationContext
+from sqlalchemy import create_engine, inspect, text
+from sqlmodel import SQLModel
+
+from app.web.config import normalise_database_url
+from app.web.db import make_engine, migrate
+
+PG_URL = os.environ.get("CLAMPDOWN_TEST_DATABASE_URL")
+
+
+@pytest.fixture(params=["sqlite"] + (["postgresql"] if PG_URL else []))
+def empty_database(request, tmp_path):
+    if request.param == "sqlite":
+        yield f"sqlite:///{tmp_path / 'empty.sqlite3'}"
+        return
+    url = normalise_database_url(PG_URL)
+    name = f"clampdown_mig_{uuid.uuid4().hex[:8]}"
+    server = create_engine(url, isolation_level="AUTOCOMMIT")
+    with server.connect() as connection:
+        connection.execute(text(f'CREATE DATABASE "{name}"'))
+    yield url.rsplit("/", 1)[0] + "/" + name
+    with server.connect() as connection:
+        connection.execute(text(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)'))
+    server.dispose()
+
+
+def test_empty_database_migrates_to_head_and_matches_the_models(empty_database):
+    engine = make_engine(empty_database)
+    migrate(engine)
+    with engine.connect() as connection:
+        tables = set(inspect(connection).get_table_names())
+        differences = compare_metadata(MigrationContext.configure(connection), SQLModel.metadata)
+    engine.dispose()
+    assert {"part", "fixture", "channel", "revision", "revision_part", "report", "user_account"} <= tables
+    assert differences == []
+
+
+def test_migrating_twice_changes_nothing(empty_database):
+    engine = make_engine(empty_database)
+    migrate(engine)
+    migrate(engine)
+    with engine.connect() as connection:
+        assert connection.execute(text("select version_num from alembic_version")).scalar() == "0001"
+    engine.dispose()
+
+
+def test_sqlite_runs_in_wal_mode(tmp_path):
+    engine = make_engine(f"sqlite:///{tmp_path / 'wal.sqlite3'}")
+    with engine.connect() as connection:
+        assert connection.execute(text("PRAGMA journal_mode")).scalar() == "wal"
+    engine.dispose()

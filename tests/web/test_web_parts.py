@@ -1,0 +1,82 @@
+"""The parts library: validated like the design file, unique names per kind, archive not delete,
+CSV out and in."""
+
+from .conftest import part_id
+
+DIODE = {"vrrm": "200", "if_avg": "1 A", "i_peak": "30", "vf": "1.1 V", "vf_at": "1"}
+
+
+def test_a_part_is_created_with_engineering_notation(designer):
+    response = designer.post(
+        "/parts", data={"kind": "diode", "name": "Bench rectifier", **DIODE, "if_avg": "500 mA"}
+    )
+    assert response.status_code == 303
+    listed = designer.get("/api/v1/parts", params={"kind": "diode", "q": "bench"}).json()
+    assert [p["params"]["if_avg"] for p in listed] == ["500 mA"]
+
+
+def test_a_bad_parameter_is_named_beside_its_field(designer):
+    response = designer.post("/parts", data={"kind": "diode", "name": "Bad", **DIODE, "vrrm": "-5"})
+    assert response.status_code == 422
+    assert "must be positive" in response.text and "has-error" in response.text
+
+
+def test_names_are_unique_within_a_kind_only(designer):
+    name = "Demo rectifier 1 A (illustrative)"
+    again = designer.post("/api/v1/parts", json={"kind": "diode", "name": name, "params": DIODE})
+    assert again.status_code == 422 and "already exists" in again.text
+    coil_params = {
+        "v_nominal": 12,
+        "r_coil": 400,
+        "tolerance": 10,
+        "inductance": "0.4 H",
+        "v_pickup": 9,
+        "v_dropout": 1,
+        "v_max": 15,
+    }
+    other_kind = designer.post("/api/v1/parts", json={"kind": "coil", "name": name, "params": coil_params})
+    assert other_kind.status_code == 201
+
+
+def test_a_used_part_is_archived_and_an_unused_one_deleted(designer, world):
+    used = part_id(world, "diode", "Demo rectifier 1 A (illustrative)")
+    unused = part_id(world, "transistor", "Demo NPN-45 half-amp (illustrative)")
+    assert designer.delete(f"/api/v1/parts/{used}").json() == {"outcome": "archived"}
+    assert designer.delete(f"/api/v1/parts/{unused}").json() == {"outcome": "deleted"}
+    assert designer.get(f"/api/v1/parts/{used}").json()["archived"] is True
+    assert designer.get(f"/api/v1/parts/{unused}").status_code == 404
+    assert "Demo rectifier 1 A" not in designer.get("/parts?kind=diode").text
+
+
+def test_csv_export_imports_back_unchanged(designer):
+    exported = designer.get("/parts/export.csv?kind=coil").text
+    assert exported.splitlines()[0].startswith("name,notes,v_nominal,r_coil,tolerance")
+    before = designer.get("/api/v1/parts?kind=coil").json()
+    response = designer.post("/parts/import", data={"kind": "coil"}, files={"file": ("c.csv", exported)})
+    assert response.status_code == 200 and "0 new, 4 updated" in response.text
+    after = designer.get("/api/v1/parts?kind=coil").json()
+    assert [(p["name"], p["params"]) for p in after] == [(p["name"], p["params"]) for p in before]
+
+
+def test_one_bad_csv_row_stores_nothing(designer):
+    text = "name,vrrm,if_avg,i_peak,vf,vf_at\nGood one,100,1,30,1,1\nBad one,100,1,30,1,-1\n"
+    response = designer.post("/parts/import", data={"kind": "diode"}, files={"file": ("d.csv", text)})
+    assert response.status_code == 422 and "row 3.vf_at" in response.text
+    assert designer.get("/api/v1/parts", params={"q": "good one"}).json() == []
+
+
+def test_unknown_csv_column_is_named(designer):
+    response = designer.post(
+        "/parts/import", data={"kind": "diode"}, files={"file": ("d.csv", "name,colour\nx,red\n")}
+    )
+    assert response.status_code == 422 and "unknown columns colour" in response.text
+
+
+def test_parts_search_swaps_only_the_table_for_htmx(designer):
+    response = designer.get("/parts", params={"q": "zener"}, headers={"HX-Request": "true"})
+    assert response.text.startswith('<table id="parts-table">') and "Demo zener 24 V" in response.text
+
+
+def test_edit_form_keeps_values_as_entered(designer, world):
+    pid = part_id(world, "transistor", "Demo NPN-40 small-signal (illustrative)")
+    assert 'value="200 mA"' in designer.get(f"/parts/{pid}/edit").text
