@@ -16,7 +16,9 @@ from .config import REPO_ROOT
 def make_engine(url: str) -> Engine:
     """An engine for SQLite (WAL mode, foreign keys on) or PostgreSQL (psycopg 3)."""
     if url.startswith("sqlite"):
-        engine = create_engine(url, connect_args={"check_same_thread": False, "timeout": 30})
+        engine = create_engine(
+            url, connect_args={"check_same_thread": False, "timeout": 30}, pool_size=20, max_overflow=40
+        )
 
         @event.listens_for(engine, "connect")
         def _pragmas(dbapi_connection, _record):

@@ -14,7 +14,7 @@ from .db import make_engine
 from .deps import CsrfRefused, Forbidden, SignInRequired, csrf_protect
 from .security import COOKIE_NAME, SessionSigner
 from .services.errors import InputProblems, NotFound
-from .templating import make_templates, render
+from .templating import FragmentCache, make_templates, render
 
 
 class SessionCookie:
@@ -72,6 +72,7 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
     app.state.engine = engine or make_engine(settings.database_url)
     app.state.signer = SessionSigner(settings.secret_key, settings.session_days * 86400)
     app.state.templates = make_templates()
+    app.state.revision_fragments = FragmentCache()
     app.add_middleware(SessionCookie, signer=app.state.signer, secure=settings.cookie_secure)
     app.mount("/static", StaticFiles(directory=str(REPO_ROOT / "static")), name="static")
 

@@ -61,3 +61,21 @@ def render(request: Request, template: str, /, status_code: int = 200, **context
     context.setdefault("user", getattr(request.state, "user", None))
     context["csrf_token"] = request.app.state.signer.csrf_token(session)
     return request.app.state.templates.TemplateResponse(request, template, context, status_code=status_code)
+
+
+class FragmentCache:
+    """Rendered fragments of things that never change (a saved revision with its report for
+    this engine version; channel and fixture names have no edit route). Bounded; thread-safe
+    enough for dict get/set under the GIL."""
+
+    def __init__(self, size: int = 4096):
+        self.size = size
+        self._items: dict = {}
+
+    def get(self, key):
+        return self._items.get(key)
+
+    def put(self, key, value) -> None:
+        if len(self._items) >= self.size:
+            self._items.clear()
+        self._items[key] = value

@@ -6,6 +6,7 @@ import json
 
 from fastapi import APIRouter, Request
 from fastapi.responses import RedirectResponse, Response
+from markupsafe import Markup
 
 from app.engine import DesignError
 
@@ -22,15 +23,22 @@ router = APIRouter(include_in_schema=False)
 
 @router.get("/revisions/{revision_id}")
 def revision_page(request: Request, db: DB, user: Viewer, revision_id: int):
-    view = revisions.revision_view(db, revision_id)
-    return render(
-        request,
-        "revision.html",
-        view=view,
-        report=view.report.body,
-        parts=revisions.frozen_parts(view.revision.document),
-        inputs=_inputs(view.revision.document),
-    )
+    can_edit = user.role in ("designer", "admin")
+    key = (revision_id, can_edit)
+    cached = request.app.state.revision_fragments.get(key)
+    if cached is None:
+        view = revisions.revision_view(db, revision_id)
+        body = request.app.state.templates.get_template("partials/_revision_body.html").render(
+            view=view,
+            report=view.report.body,
+            parts=revisions.frozen_parts(view.revision.document),
+            inputs=_inputs(view.revision.document),
+            can_edit=can_edit,
+        )
+        cached = (f"{view.channel.name} rev {view.revision.label}", Markup(body))
+        request.app.state.revision_fragments.put(key, cached)
+    title, body = cached
+    return render(request, "revision.html", title=title, body=body)
 
 
 def _inputs(document: dict) -> list[tuple[str, str]]:
