@@ -122,8 +122,8 @@ def with_wrk(url: str, cookie: str, seconds: int, connections: int) -> tuple[flo
         check=True,
     ).stdout
     rps = float(re.search(r"Requests/sec:\s+([\d.]+)", out).group(1))
-    p50 = _ms(re.search(r"50%\s+(\S+)", out).group(1))
-    p99 = _ms(re.search(r"99%\s+(\S+)", out).group(1))
+    p50 = _ms(re.search(r"^\s+50%\s+(\S+)", out, re.M).group(1))
+    p99 = _ms(re.search(r"^\s+99%\s+(\S+)", out, re.M).group(1))
     if "Non-2xx" in out:
         raise SystemExit(f"{url} answered errors:\n{out}")
     return rps, p50, p99
