@@ -17,7 +17,11 @@ def make_engine(url: str) -> Engine:
     """An engine for SQLite (WAL mode, foreign keys on) or PostgreSQL (psycopg 3)."""
     if url.startswith("sqlite"):
         engine = create_engine(
-            url, connect_args={"check_same_thread": False, "timeout": 30}, pool_size=20, max_overflow=40
+            # No overflow limit: a wait for a pooled connection must never stall the event loop.
+            url,
+            connect_args={"check_same_thread": False, "timeout": 30},
+            pool_size=20,
+            max_overflow=-1,
         )
 
         @event.listens_for(engine, "connect")

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from collections.abc import Iterator
+from collections.abc import AsyncIterator
 from typing import Annotated
 
 from fastapi import Depends, Request
@@ -28,7 +28,9 @@ class CsrfRefused(Exception):
     pass
 
 
-def get_db(request: Request) -> Iterator[Session]:
+# The dependencies are async so that resolving them costs no thread hop per request; their
+# database work is one primary-key lookup. Slow work stays in sync routes (run in threads).
+async def get_db(request: Request) -> AsyncIterator[Session]:
     with Session(request.app.state.engine, expire_on_commit=False) as session:
         yield session
 
@@ -36,23 +38,28 @@ def get_db(request: Request) -> Iterator[Session]:
 DB = Annotated[Session, Depends(get_db)]
 
 
-def current_user(request: Request, db: DB) -> User | None:
+async def current_user(request: Request) -> User | None:
     session = request.state.session
-    user = db.get(User, session.user_id) if session.user_id is not None else None
+    user = None
+    if session.user_id is not None:
+        # A session of its own, closed at once: the connection goes back to the pool before the
+        # route runs, so no request holds one while it waits for anything else.
+        with Session(request.app.state.engine, expire_on_commit=False) as db:
+            user = db.get(User, session.user_id)
     if user is not None and not user.active:
         user = None
     request.state.user = user
     return user
 
 
-def signed_in(user: Annotated[User | None, Depends(current_user)]) -> User:
+async def signed_in(user: Annotated[User | None, Depends(current_user)]) -> User:
     if user is None:
         raise SignInRequired()
     return user
 
 
 def _role(*roles: str):
-    def check(user: Annotated[User, Depends(signed_in)]) -> User:
+    async def check(user: Annotated[User, Depends(signed_in)]) -> User:
         if user.role not in roles:
             raise Forbidden(f"this needs the role {' or '.join(roles)}; you are signed in as a {user.role}")
         return user

@@ -72,7 +72,7 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
     app.state.engine = engine or make_engine(settings.database_url)
     app.state.signer = SessionSigner(settings.secret_key, settings.session_days * 86400)
     app.state.templates = make_templates()
-    app.state.revision_fragments = FragmentCache()
+    app.state.fragments = FragmentCache()  # revision page bodies and the home overview
     app.add_middleware(SessionCookie, signer=app.state.signer, secure=settings.cookie_secure)
     app.mount("/static", StaticFiles(directory=str(REPO_ROOT / "static")), name="static")
 

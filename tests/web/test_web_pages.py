@@ -1,6 +1,6 @@
 """What the home, fixture and channel pages tell a team lead."""
 
-from .conftest import K1, K2, channel_id
+from .conftest import K1, K2, channel_id, form_values
 
 
 def test_home_shows_each_channels_latest_revision_with_counts(reviewer):
@@ -33,3 +33,17 @@ def test_reviewer_sees_no_new_revision_button(reviewer, world):
 
 def test_trivial_endpoint_answers(reviewer):
     assert reviewer.get("/healthz").text == "ok"
+
+
+def test_home_shows_a_new_revision_at_once(designer, world):
+    assert designer.get("/").status_code == 200  # the overview is now rendered and kept
+    values = {**form_values(world, K2), "base.r_series": "47k", "change_note": "oops"}
+    assert designer.post(f"/channels/{channel_id(world, K2)}/revisions", data=values).status_code == 303
+    k2_row = designer.get("/").text.split(K2, 1)[1].split("</tr>")[0]
+    assert ">C</a>" in k2_row and "Exceeds rating" in k2_row
+
+
+def test_home_shows_a_new_fixture_at_once(designer):
+    designer.get("/")
+    designer.post("/fixtures", data={"name": "Second bench"})
+    assert "Second bench" in designer.get("/").text

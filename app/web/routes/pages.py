@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from fastapi import APIRouter, Request
 from fastapi.responses import RedirectResponse
+from markupsafe import Markup
 
 from ..deps import DB, Designer, Viewer
 from ..services import fixtures
@@ -13,9 +14,20 @@ from ..templating import render
 router = APIRouter(include_in_schema=False)
 
 
+def _overview_html(request: Request, db) -> Markup:
+    """The fixtures list, rendered once per overview version (see fixtures.overview_version)."""
+    key = ("home", fixtures.overview_version(db))
+    html = request.app.state.fragments.get(key)
+    if html is None:
+        template = request.app.state.templates.get_template("partials/_overview.html")
+        html = Markup(template.render(overview=fixtures.overview(db)))
+        request.app.state.fragments.put(key, html)
+    return html
+
+
 @router.get("/")
 def home(request: Request, db: DB, user: Viewer):
-    return render(request, "home.html", overview=fixtures.overview(db), errors={}, form={})
+    return render(request, "home.html", overview_html=_overview_html(request, db), errors={}, form={})
 
 
 @router.post("/fixtures")

@@ -22,10 +22,10 @@ router = APIRouter(include_in_schema=False)
 
 
 @router.get("/revisions/{revision_id}")
-def revision_page(request: Request, db: DB, user: Viewer, revision_id: int):
+async def revision_page(request: Request, db: DB, user: Viewer, revision_id: int):
     can_edit = user.role in ("designer", "admin")
     key = (revision_id, can_edit)
-    cached = request.app.state.revision_fragments.get(key)
+    cached = request.app.state.fragments.get(key)
     if cached is None:
         view = revisions.revision_view(db, revision_id)
         body = request.app.state.templates.get_template("partials/_revision_body.html").render(
@@ -36,7 +36,7 @@ def revision_page(request: Request, db: DB, user: Viewer, revision_id: int):
             can_edit=can_edit,
         )
         cached = (f"{view.channel.name} rev {view.revision.label}", Markup(body))
-        request.app.state.revision_fragments.put(key, cached)
+        request.app.state.fragments.put(key, cached)
     title, body = cached
     return render(request, "revision.html", title=title, body=body)
 

@@ -123,34 +123,42 @@ def _fill_missing(db: Session, rows: list[RevisionStatus]) -> None:
 
 
 def overview(db: Session, fixture_id: int | None = None) -> list[tuple[Fixture, list[ChannelStatus]]]:
-    """Every fixture with each channel's latest revision and its counts, in three queries."""
+    """Every fixture with each channel's latest revision and its counts, in three queries.
+
+    The latest revision of each channel is found through the (channel_id, number) unique
+    index, one index probe per channel, rather than by grouping every revision."""
     fixtures = [get_fixture(db, fixture_id)] if fixture_id is not None else list_fixtures(db)
     ids = [f.id for f in fixtures]
-    channels = (
-        list(db.exec(select(Channel).where(Channel.fixture_id.in_(ids)).order_by(Channel.name)))
-        if ids
-        else []
-    )
-    latest = (
-        select(Revision.channel_id, func.max(Revision.number).label("number"))
-        .join(Channel, Channel.id == Revision.channel_id)
-        .where(Channel.fixture_id.in_(ids))
-        .group_by(Revision.channel_id)
-        .subquery()
+    if not ids:
+        return []
+    channels = list(db.exec(select(Channel).where(Channel.fixture_id.in_(ids)).order_by(Channel.name)))
+    newest = (
+        select(func.max(Revision.number))
+        .where(Revision.channel_id == Channel.id)
+        .correlate(Channel)
+        .scalar_subquery()
     )
     query = _with_report(
-        select(*_status_columns()).join(
-            latest, and_(latest.c.channel_id == Revision.channel_id, latest.c.number == Revision.number)
-        )
+        select(*_status_columns())
+        .select_from(Channel)
+        .join(Revision, and_(Revision.channel_id == Channel.id, Revision.number == newest))
+        .where(Channel.fixture_id.in_(ids))
     )
-    rows = [RevisionStatus(*row) for row in db.exec(query)] if ids else []
+    rows = [RevisionStatus(*row) for row in db.exec(query)]
     _fill_missing(db, rows)
     by_channel = {row.channel_id: row for row in rows}
-    out = []
-    for fixture in fixtures:
-        mine = [ChannelStatus(c, by_channel.get(c.id)) for c in channels if c.fixture_id == fixture.id]
-        out.append((fixture, mine))
-    return out
+    by_fixture: dict[int, list[ChannelStatus]] = {fixture_id: [] for fixture_id in ids}
+    for channel in channels:
+        by_fixture[channel.fixture_id].append(ChannelStatus(channel, by_channel.get(channel.id)))
+    return [(fixture, by_fixture[fixture.id]) for fixture in fixtures]
+
+
+def overview_version(db: Session) -> tuple:
+    """Changes whenever the overview could: fixtures, channels and revisions are only ever added
+    (none is edited or deleted, and a revision's report depends only on its content), so the
+    newest id of each is enough. One query, three index lookups."""
+    newest = [select(func.max(table.id)).scalar_subquery() for table in (Fixture, Channel, Revision)]
+    return tuple(db.exec(select(*newest)).one())
 
 
 def history(db: Session, channel_id: int) -> list[RevisionStatus]:
