@@ -40,7 +40,7 @@ def test_demo_builds_a_fresh_database_and_prints_the_sign_ins(tmp_path):
     )
     engine = make_engine(f"sqlite:///{tmp_path / 'demo' / 'demo.sqlite3'}")
     with Session(engine) as db:
-        assert len(db.exec(select(Revision)).all()) == 8
+        assert len(db.exec(select(Revision)).all()) == 9
 
 
 def test_secret_key_is_generated_once_and_kept(tmp_path):
