@@ -1,4 +1,4 @@
-"""`clampdown serve`, `clampdown demo` and `clampdown user add`, registered with app.cli."""
+"""`clampdown serve`, `demo`, `user add` and `trail verify`, registered with app.cli."""
 
 from __future__ import annotations
 
@@ -80,6 +80,19 @@ def _user_add(args: argparse.Namespace) -> int:
     return 0
 
 
+def _trail_verify(args: argparse.Namespace) -> int:
+    from .db import make_engine, migrate, session_scope
+    from .services.trail import verify_all
+
+    engine = make_engine(_settings().database_url)
+    migrate(engine)
+    with session_scope(engine) as db:
+        check = verify_all(db)
+    engine.dispose()
+    print(check.summary)
+    return 0 if check.ok else 1
+
+
 def register(sub: argparse._SubParsersAction) -> None:
     serve = sub.add_parser("serve", help="apply migrations and serve the web app")
     serve.add_argument("--host", default="127.0.0.1")
@@ -105,6 +118,14 @@ def register(sub: argparse._SubParsersAction) -> None:
         "--password-env", action="store_true", help="read the password from CLAMPDOWN_NEW_PASSWORD"
     )
     add.set_defaults(run=_user_add)
+
+    trail = sub.add_parser("trail", help="the review trail")
+    trail_sub = trail.add_subparsers(dest="trail_command", required=True)
+    verify = trail_sub.add_parser(
+        "verify",
+        help="check the hash chain and every revision's document; exit 1 naming the first failure",
+    )
+    verify.set_defaults(run=_trail_verify)
 
 
 EXTRA_COMMANDS.append(register)

@@ -1,12 +1,15 @@
-"""The tables, all in one place. Revisions are immutable once saved (see ``_refuse_update``)."""
+"""The tables, all in one place. A revision's content is immutable once handed in (see
+``_guard_revision``); the trail is append-only (database triggers, see app/web/trail_guard.py)."""
 
 from __future__ import annotations
 
 from datetime import UTC, datetime
 from typing import Any
 
-from sqlalchemy import JSON, Column, DateTime, UniqueConstraint, event
+from sqlalchemy import JSON, Column, DateTime, Text, UniqueConstraint, event, inspect
 from sqlmodel import Field, SQLModel
+
+from app.signoff.canonical import sha256_hex
 
 ROLES = ("designer", "reviewer", "admin")
 PART_KINDS = ("transistor", "diode", "zener", "tvs", "coil")
@@ -81,6 +84,8 @@ class Revision(SQLModel, table=True):
     change_note: str = Field(default="", max_length=5000)
     source: str = Field(default="form", max_length=20)
     created_at: datetime = _when()
+    # The workflow state (app.signoff.workflow.STATES); changed only through services/review.py.
+    state: str = Field(default="draft", max_length=20, sa_column_kwargs={"server_default": "draft"})
 
 
 class RevisionPart(SQLModel, table=True):
@@ -106,10 +111,59 @@ class Report(SQLModel, table=True):
     created_at: datetime = _when()
 
 
+class TrailEntry(SQLModel, table=True):
+    """One action on one revision, hash-chained to the entry before it (app.signoff.chain).
+
+    ``at`` is stored as the ISO text that was hashed, and ``detail`` as canonical JSON text, so
+    the hash recomputes byte for byte on SQLite and PostgreSQL alike. ``seq`` is the primary
+    key: two writers cannot both append the same position."""
+
+    __tablename__ = "trail_entry"
+    seq: int = Field(primary_key=True, sa_column_kwargs={"autoincrement": False})
+    revision_id: int = Field(foreign_key="revision.id", index=True)
+    user_name: str = Field(max_length=80)
+    role: str = Field(max_length=20)
+    at: str = Field(max_length=40)
+    action: str = Field(max_length=20)
+    content_hash: str = Field(max_length=64)
+    report_hash: str = Field(max_length=64)
+    meaning: str = Field(max_length=500)
+    detail: str = Field(sa_type=Text)
+    prev_hash: str = Field(max_length=64)
+    hash: str = Field(max_length=64)
+
+
+class TrailHead(SQLModel, table=True):
+    """The last entry's (seq, hash), kept apart from the trail: cutting rows off the end shows.
+    One row (id 1), created by the migration; its row lock serialises appends."""
+
+    __tablename__ = "trail_head"
+    id: int = Field(primary_key=True, sa_column_kwargs={"autoincrement": False})
+    seq: int
+    hash: str = Field(max_length=64)
+
+
 class ImmutableRevisionError(RuntimeError):
     pass
 
 
+# A draft's document may be replaced by its author (content_hash follows it); the state moves
+# through the workflow. Anything else about a saved revision never changes.
+_STATE_ONLY = {"state"}
+_DRAFT_REPLACEABLE = {"state", "document", "content_hash", "change_note", "source"}
+
+
 @event.listens_for(Revision, "before_update")
-def _refuse_update(mapper, connection, target):  # noqa: ARG001
-    raise ImmutableRevisionError("a saved revision cannot be changed; save a new revision instead")
+def _guard_revision(mapper, connection, target):  # noqa: ARG001
+    state = inspect(target)
+    changed = {attr.key for attr in state.attrs if attr.history.has_changes()}
+    was = state.attrs.state.history.deleted
+    previous_state = was[0] if was else target.state
+    allowed = _DRAFT_REPLACEABLE if previous_state == "draft" else _STATE_ONLY
+    if not changed <= allowed:
+        raise ImmutableRevisionError(
+            f"a saved revision cannot be changed ({', '.join(sorted(changed - allowed))}); "
+            "save a new revision instead"
+        )
+    if "document" in changed and target.content_hash != sha256_hex(target.document):
+        raise ImmutableRevisionError("a replaced document needs its new content_hash")

@@ -14,15 +14,17 @@ warnings.filterwarnings("ignore", message=".*httpx2.*")
 
 from fastapi.testclient import TestClient  # noqa: E402
 
+from app.signoff.chain import GENESIS  # noqa: E402
 from app.web import demo, security  # noqa: E402
 from app.web.config import Settings, normalise_database_url  # noqa: E402
 from app.web.db import make_engine, migrate  # noqa: E402
 from app.web.main import create_app  # noqa: E402
 from app.web.services import users  # noqa: E402
+from app.web.trail_guard import create_guards, drop_guards  # noqa: E402
 
 PG_URL = os.environ.get("CLAMPDOWN_TEST_DATABASE_URL")
 BACKENDS = ["sqlite"] + (["postgresql"] if PG_URL else [])
-TABLES = ("revision_part", "report", "revision", "channel", "fixture", "part", "user_account")
+TABLES = ("trail_entry", "revision_part", "report", "revision", "channel", "fixture", "part", "user_account")
 PASSWORD = demo.DEMO_PASSWORD
 
 # Real argon2, cheap parameters: the tests sign in hundreds of times.
@@ -57,12 +59,19 @@ def engine(database_url):
 
 
 def _clean(engine) -> None:
+    """Empty every table. The trail's triggers refuse that, so they are lifted for the moment
+    and put back in the same transaction."""
     with engine.begin() as connection:
+        drop_guards(connection)
         if engine.dialect.name == "postgresql":
             connection.execute(text(f"TRUNCATE {', '.join(TABLES)} RESTART IDENTITY CASCADE"))
         else:
             for table in TABLES:
                 connection.execute(text(f"DELETE FROM {table}"))
+        connection.execute(
+            text("UPDATE trail_head SET seq = 0, hash = :genesis WHERE id = 1"), {"genesis": GENESIS}
+        )
+        create_guards(connection)
 
 
 @pytest.fixture

@@ -2,23 +2,20 @@
 
 from __future__ import annotations
 
-import hashlib
-import json
 import re
 from typing import Any
+
+from app.signoff.canonical import canonical_json as canonical_json  # re-exported
+from app.signoff.canonical import sha256_hex
 
 from ..models import Part
 
 _NUMBER = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
 
 
-def canonical_json(document: Any) -> str:
-    """Sorted keys, no insignificant whitespace, UTF-8 kept: the same document, the same text."""
-    return json.dumps(document, sort_keys=True, separators=(",", ":"), ensure_ascii=False, allow_nan=False)
-
-
 def content_hash(document: Any) -> str:
-    return hashlib.sha256(canonical_json(document).encode("utf-8")).hexdigest()
+    """SHA-256 of the canonical JSON; the one function the trail's verification also uses."""
+    return sha256_hex(document)
 
 
 def typed_value(text: str) -> Any:

@@ -5,12 +5,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from sqlalchemy import func
-from sqlalchemy.exc import IntegrityError
 from sqlmodel import Session, select
 
 from app.engine import DesignError, parse_design
 
 from ..models import Channel, Fixture, Part, Report, Revision, RevisionPart, User
+from . import review, trail
 from .documents import SLOT_KINDS, content_hash, get_path, part_document
 from .errors import InputProblems, NotFound, split_problem
 from .reports import cached_report
@@ -53,7 +53,9 @@ def create_revision(
     source: str = "form",
     part_links: dict[str, int] | None = None,
 ) -> Revision:
-    """Validate, hash and store a new revision of the channel, and cache its report."""
+    """Validate, hash and store a new revision of the channel as a draft, with its report, its
+    trail entry, and the earlier revisions superseded. The trail's lock also serialises the
+    revision numbers of a channel."""
     channel = db.get(Channel, channel_id)
     if channel is None:
         raise NotFound(f"channel {channel_id}")
@@ -65,7 +67,9 @@ def create_revision(
     validate_document(document)
     digest = content_hash(document)
     links = part_links if part_links is not None else _link_by_name(db, document)
-    for attempt in range(3):
+    report = cached_report(db, digest, document)  # may commit, so before the trail's lock
+    head = trail.lock(db)
+    try:
         number = (
             db.exec(select(func.max(Revision.number)).where(Revision.channel_id == channel_id)).one() or 0
         ) + 1
@@ -79,19 +83,15 @@ def create_revision(
             change_note=change_note,
             source=source,
         )
-        try:
-            with db.begin_nested():
-                db.add(revision)
-                db.flush()
-        except IntegrityError:  # someone saved the same number at the same moment: take the next
-            if attempt == 2:
-                raise
-            continue
-        break
-    for slot, part_id in links.items():
-        db.add(RevisionPart(revision_id=revision.id, slot=slot, part_id=part_id))
-    db.commit()
-    cached_report(db, digest, document)
+        db.add(revision)
+        db.flush()
+        for slot, part_id in links.items():
+            db.add(RevisionPart(revision_id=revision.id, slot=slot, part_id=part_id))
+        review.record_saved(db, head, revision, author, report.body)
+        db.commit()
+    except BaseException:
+        db.rollback()
+        raise
     db.refresh(revision)
     return revision
 
