@@ -59,3 +59,31 @@ def test_default_database_is_a_sqlite_file_in_the_data_dir(tmp_path):
 def test_plain_postgresql_urls_use_psycopg(tmp_path):
     url = Settings(data_dir=tmp_path, database_url="postgresql://u@h/db").resolved().database_url
     assert url == "postgresql+psycopg://u@h/db"
+
+
+def test_serve_applies_migrations_and_answers(tmp_path):
+    import socket
+    import time
+
+    import httpx
+
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    env = {"PATH": "/usr/bin:/bin", "CLAMPDOWN_DATA_DIR": str(tmp_path), "HOME": str(tmp_path)}
+    code = "import sys; from app.cli import main; raise SystemExit(main(sys.argv[1:]))"
+    server = subprocess.Popen([sys.executable, "-c", code, "serve", "--port", str(port)], env=env, cwd=".")
+    try:
+        for _ in range(100):
+            try:
+                response = httpx.get(f"http://127.0.0.1:{port}/sign-in")
+                break
+            except httpx.HTTPError:
+                time.sleep(0.1)
+        assert response.status_code == 200 and 'name="password"' in response.text
+    finally:
+        server.terminate()
+        server.wait(10)
+    engine = make_engine(f"sqlite:///{tmp_path / 'clampdown.sqlite3'}")
+    with Session(engine) as db:
+        assert db.exec(select(User)).all() == []  # the schema is there, empty
