@@ -160,6 +160,7 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--seconds", type=int, default=10)
     parser.add_argument("--connections", type=int, default=50)
+    parser.add_argument("--workers", type=int, default=1, help="uvicorn worker processes")
     args = parser.parse_args()
     workdir = Path(tempfile.mkdtemp(prefix="clampdown-bench-"))
     url = f"sqlite:///{workdir / 'bench.sqlite3'}"
@@ -177,6 +178,8 @@ def main() -> None:
             "--log-level",
             "warning",
             "--no-access-log",
+            "--workers",
+            str(args.workers),
         ],
         cwd=ROOT,
         env=env,
@@ -193,7 +196,7 @@ def main() -> None:
         measure = with_wrk if shutil.which("wrk") else with_httpx
         tool = "wrk" if measure is with_wrk else "httpx (async)"
         print(
-            f"load: {tool}, {args.connections} connections, {args.seconds} s per URL, one uvicorn worker",
+            f"load: {tool}, {args.connections} connections, {args.seconds} s per URL, {args.workers} uvicorn worker(s)",
             flush=True,
         )
         results = {}
