@@ -12,7 +12,7 @@ from sqlmodel import Session, select
 from .config import REPO_ROOT
 from .db import make_engine, migrate
 from .models import Part, User
-from .services import fixtures, parts, revisions, users
+from .services import fixtures, parts, reports, review, revisions, users
 from .services.documents import SLOT_KINDS, get_path, part_document, set_path
 
 SEED = REPO_ROOT / "seed_data" / "demo"
@@ -47,6 +47,8 @@ def load_seed(db: Session, seed_dir: Path = SEED) -> None:
             parts.create_part(db, kind, entry["name"], entry["params"], entry.get("notes", ""))
     people = {name: users.create_user(db, name, DEMO_PASSWORD, role) for name, role in DEMO_USERS}
     scenario = json.loads((seed_dir / "scenario.json").read_text(encoding="utf-8"))
+    reviews_file = seed_dir / "reviews.json"
+    reviews = json.loads(reviews_file.read_text(encoding="utf-8")) if reviews_file.exists() else {}
     fixture = fixtures.create_fixture(db, scenario["fixture"]["name"], scenario["fixture"]["description"])
     for entry in scenario["channels"]:
         channel = fixtures.create_channel(db, fixture.id, entry["name"], entry["load"], entry["mains_load"])
@@ -54,7 +56,7 @@ def load_seed(db: Session, seed_dir: Path = SEED) -> None:
         for step in entry["revisions"]:
             design = _merge(design, step["set"])
             document, links = resolve_parts(db, design)
-            revisions.create_revision(
+            revision = revisions.create_revision(
                 db,
                 channel.id,
                 document,
@@ -63,6 +65,29 @@ def load_seed(db: Session, seed_dir: Path = SEED) -> None:
                 source="form",
                 part_links=links,
             )
+            for action in reviews.get(entry["name"], {}).get(revision.label, []):
+                _review(db, revision, people[action["by"]], action)
+
+
+def _review(db: Session, revision, person, action: dict) -> None:
+    """One review step of the seed; "*marginal" / "*violation" waives the first such finding."""
+    do = action["do"]
+    if do == "hand_in":
+        review.hand_in(db, revision.id, person, action.get("note", ""))
+    elif do == "comment":
+        review.comment(db, revision.id, person, action["text"], action.get("finding"))
+    elif do == "send_back":
+        review.send_back(db, revision.id, person, action["note"])
+    elif do == "sign_off":
+        review.sign_off(db, revision.id, person, action.get("note", ""))
+    elif do == "waive":
+        finding = action["finding"]
+        if finding.startswith("*"):
+            report = reports.cached_report(db, revision.content_hash, revision.document).body
+            finding = next(f["rule"] for f in report["findings"] if f["status"] == finding[1:])
+        review.waive(db, revision.id, person, finding, action["justification"])
+    else:
+        raise ValueError(f"seed_data/demo/reviews.json: unknown action {do!r}")
 
 
 def build_demo(database_url: str, fresh: bool = True) -> Engine:

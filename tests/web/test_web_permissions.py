@@ -10,7 +10,7 @@ from starlette.routing import compile_path
 from app.web.main import route_table
 from app.web.models import Fixture, User
 
-from .conftest import K1, K2, channel_id, form_values, latest_document, part_id, revision_ids
+from .conftest import K1, K2, K3, channel_id, form_values, latest_document, part_id, revision_ids
 
 LEVEL = {"anonymous": 0, "reviewer": 1, "designer": 2, "admin": 3}
 NEEDS = {"viewer": 1, "designer": 2, "admin": 3}
@@ -28,6 +28,13 @@ def _requests(app, role):
         sam = db.exec(select(User.id).where(User.name == "sam")).one()
         fid = db.exec(select(Fixture.id)).first()
     values = form_values(app, K1)
+    k1_review = revision_ids(app, K1)[-1]  # dana's, in review in the demo
+    k3_review = revision_ids(app, K3)[-1]  # sam's, in review
+    k2_draft = revision_ids(app, K2)[-1]  # sam's draft
+    # The review actions: who may is the workflow's answer for each person, so the expected
+    # status is given per role (lee reviews, dana designs and wrote K1's revision, ari is admin).
+    own = {"reviewer": {303}, "designer": {403}, "admin": {303}}
+    nobody = {"reviewer": {403}, "designer": {403}, "admin": {403}}
     part_form = {"kind": "transistor", "name": PART, **{k: str(v) for k, v in _params(app, pid).items()}}
     return [
         ("GET", "/", "viewer", {}),
@@ -42,6 +49,31 @@ def _requests(app, role):
         ("GET", "/parts/new?kind=coil", "designer", {}),
         ("GET", f"/parts/{pid}/edit", "designer", {}),
         ("GET", "/admin/users", "admin", {}),
+        ("GET", f"/revisions/{rev}/review", "viewer", {}),
+        ("GET", f"/revisions/{rev}/record", "viewer", {}),
+        (
+            "GET",
+            f"/revisions/{rev}/record.pdf",
+            {"reviewer": {200, 501}, "designer": {200, 501}, "admin": {200, 501}},
+            {},
+        ),
+        ("GET", f"/channels/{c1}/compare", "viewer", {}),
+        ("POST", f"/revisions/{k3_review}/comments", own, {"data": {"text": f"comment by {role}"}}),
+        (
+            "POST",
+            f"/revisions/{k3_review}/waivers",
+            {"reviewer": {422}, "designer": {403}, "admin": {422}},
+            {"data": {"finding": "no.such.rule", "justification": "long enough reason"}},
+        ),
+        ("POST", f"/revisions/{k3_review}/send-back", own, {"data": {"note": "change it"}}),
+        ("POST", f"/revisions/{k1_review}/sign-off", own, {"data": {}}),
+        ("POST", f"/revisions/{k2_draft}/hand-in", nobody, {"data": {}}),
+        (
+            "POST",
+            f"/revisions/{k2_draft}/replace",
+            nobody,
+            {"files": {"file": ("d.json", json.dumps(latest_document(app, K2)))}},
+        ),
         ("POST", "/fixtures", "designer", {"data": {"name": f"Bench {role}"}}),
         ("POST", f"/fixtures/{fid}/channels", "designer", {"data": {"name": f"K9 {role}"}}),
         ("POST", f"/channels/{c1}/preview", "designer", {"data": values}),
@@ -126,6 +158,8 @@ def test_every_route_answers_each_role_as_the_matrix_says(as_role, world, role):
             assert response.status_code == expected, where
             if expected == 303:
                 assert response.headers["location"].startswith("/sign-in"), where
+        elif isinstance(needs, dict):
+            assert response.status_code in needs[role], where
         elif LEVEL[role] < NEEDS[needs]:
             assert response.status_code == 403, where
         else:

@@ -11,7 +11,7 @@ from markupsafe import Markup
 from app.engine import DesignError
 
 from ..deps import DB, Designer, Viewer
-from ..services import fixtures, revision_form, revisions
+from ..services import fixtures, record, revision_form, revisions, trail
 from ..services.documents import canonical_json
 from ..services.errors import InputProblems
 from ..services.parts import search_parts
@@ -23,40 +23,20 @@ router = APIRouter(include_in_schema=False)
 
 @router.get("/revisions/{revision_id}")
 async def revision_page(request: Request, db: DB, user: Viewer, revision_id: int):
+    # The report never changes for a content hash; state, comments and waivers change with the
+    # trail, so the revision's newest trail entry is part of the key (one indexed lookup).
     can_edit = user.role in ("designer", "admin")
-    key = (revision_id, can_edit)
+    key = (revision_id, can_edit, trail.last_seq_for(db, revision_id))
     cached = request.app.state.fragments.get(key)
     if cached is None:
-        view = revisions.revision_view(db, revision_id)
+        context = record.page_context(db, revision_id, user)
         body = request.app.state.templates.get_template("partials/_revision_body.html").render(
-            view=view,
-            report=view.report.body,
-            parts=revisions.frozen_parts(view.revision.document),
-            inputs=_inputs(view.revision.document),
-            can_edit=can_edit,
+            **context, can_edit=can_edit
         )
-        cached = (f"{view.channel.name} rev {view.revision.label}", Markup(body))
+        cached = (f"{context['view'].channel.name} rev {context['view'].revision.label}", Markup(body))
         request.app.state.fragments.put(key, cached)
     title, body = cached
     return render(request, "revision.html", title=title, body=body)
-
-
-def _inputs(document: dict) -> list[tuple[str, str]]:
-    """The design's own values (parts listed separately), flattened to field paths."""
-    out = []
-
-    def walk(prefix: str, node):
-        for key, value in node.items():
-            path = f"{prefix}.{key}" if prefix else key
-            if path in ("format", "switch", "coil", "clamp.diode", "clamp.zener", "clamp.tvs", "notes"):
-                continue
-            if isinstance(value, dict):
-                walk(path, value)
-            else:
-                out.append((path, str(value)))
-
-    walk("", document)
-    return out
 
 
 @router.get("/revisions/{revision_id}/design.json")

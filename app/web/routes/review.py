@@ -1,0 +1,125 @@
+"""Review pages and actions: the review page, the workflow's actions, compare, the printed record.
+
+Each action route reads its form, calls one service function and redirects back to the review
+page; the service decides (through app.signoff.workflow) and owns the transaction. Refusals
+arrive as InputProblems (403 for who, 409 for when) and render as the error page."""
+
+from __future__ import annotations
+
+import json
+
+from fastapi import APIRouter, Request
+from fastapi.responses import RedirectResponse, Response
+
+from ..deps import DB, Viewer
+from ..services import record, review
+from ..services.errors import InputProblems
+from ..templating import render
+
+router = APIRouter(include_in_schema=False)
+
+
+def _back(revision_id: int) -> RedirectResponse:
+    return RedirectResponse(f"/revisions/{revision_id}/review", status_code=303)
+
+
+async def _form(request: Request) -> dict[str, str]:
+    form = await request.form()
+    return {key: value for key, value in form.items() if isinstance(value, str)}
+
+
+@router.get("/revisions/{revision_id}/review")
+def review_page(request: Request, db: DB, user: Viewer, revision_id: int):
+    return render(request, "review.html", **record.page_context(db, revision_id, user))
+
+
+@router.post("/revisions/{revision_id}/hand-in")
+async def hand_in(request: Request, db: DB, user: Viewer, revision_id: int):
+    form = await _form(request)
+    review.hand_in(db, revision_id, user, form.get("note", ""))
+    return _back(revision_id)
+
+
+@router.post("/revisions/{revision_id}/comments")
+async def comment(request: Request, db: DB, user: Viewer, revision_id: int):
+    form = await _form(request)
+    review.comment(db, revision_id, user, form.get("text", ""), form.get("finding"))
+    return _back(revision_id)
+
+
+@router.post("/revisions/{revision_id}/waivers")
+async def waive(request: Request, db: DB, user: Viewer, revision_id: int):
+    form = await _form(request)
+    review.waive(db, revision_id, user, form.get("finding", ""), form.get("justification", ""))
+    return _back(revision_id)
+
+
+@router.post("/revisions/{revision_id}/send-back")
+async def send_back(request: Request, db: DB, user: Viewer, revision_id: int):
+    form = await _form(request)
+    review.send_back(db, revision_id, user, form.get("note", ""))
+    return _back(revision_id)
+
+
+@router.post("/revisions/{revision_id}/sign-off")
+async def sign_off(request: Request, db: DB, user: Viewer, revision_id: int):
+    form = await _form(request)
+    review.sign_off(db, revision_id, user, form.get("note", ""))
+    return _back(revision_id)
+
+
+MAX_UPLOAD = 1_000_000
+
+
+@router.post("/revisions/{revision_id}/replace")
+async def replace(request: Request, db: DB, user: Viewer, revision_id: int):
+    """The author uploads a new design file in place of a draft's."""
+    form = await request.form()
+    upload = form.get("file")
+    if upload is None or isinstance(upload, str) or not upload.filename:
+        raise InputProblems([("file", "choose a design file (JSON, clampdown-design/1)")])
+    raw = await upload.read(MAX_UPLOAD + 1)
+    if len(raw) > MAX_UPLOAD:
+        raise InputProblems([("file", f"larger than {MAX_UPLOAD // 1000} kB; a design file is a few kB")])
+    try:
+        document = json.loads(raw.decode("utf-8"))
+    except (UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise InputProblems([("file", f"not JSON ({exc})")]) from None
+    review.replace_draft(db, revision_id, user, document, str(form.get("change_note", "")))
+    return _back(revision_id)
+
+
+@router.get("/channels/{channel_id}/compare")
+def compare_page(
+    request: Request, db: DB, user: Viewer, channel_id: int, old: int | None = None, new: int | None = None
+):
+    return render(request, "compare.html", **record.compare_context(db, channel_id, old, new))
+
+
+@router.get("/revisions/{revision_id}/record")
+def record_page(request: Request, db: DB, user: Viewer, revision_id: int):
+    return render(request, "record.html", **record.record_context(db, revision_id), pdf=False)
+
+
+@router.get("/revisions/{revision_id}/record.pdf")
+def record_pdf(request: Request, db: DB, user: Viewer, revision_id: int):
+    context = record.record_context(db, revision_id)
+    html = request.app.state.templates.get_template("record.html").render(**context, pdf=True)
+    pdf = record.render_pdf(html, base_url=str(request.base_url))
+    if pdf is None:
+        return render(
+            request,
+            "error.html",
+            status_code=501,
+            title="PDF not available here",
+            lines=[
+                'This server cannot make PDFs (WeasyPrint is not installed: pip install ".[pdf]", '
+                "which needs the Pango library).",
+                f"Open the printed record (/revisions/{revision_id}/record) and use the browser's "
+                "Print → Save as PDF; the page is laid out for A4 and Letter.",
+            ],
+        )
+    name = f"record-{context['view'].channel.id}-rev-{context['view'].revision.label}.pdf"
+    return Response(
+        pdf, media_type="application/pdf", headers={"Content-Disposition": f'attachment; filename="{name}"'}
+    )
