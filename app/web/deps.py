@@ -6,6 +6,7 @@ from collections.abc import AsyncIterator
 from typing import Annotated
 
 from fastapi import Depends, Request
+from sqlalchemy import bindparam, select
 from sqlmodel import Session
 
 from .models import User
@@ -38,16 +39,24 @@ async def get_db(request: Request) -> AsyncIterator[Session]:
 DB = Annotated[Session, Depends(get_db)]
 
 
+_USER_COLUMNS = User.__table__.c
+_USER_BY_ID = select(_USER_COLUMNS.id, _USER_COLUMNS.name, _USER_COLUMNS.role, _USER_COLUMNS.active).where(
+    _USER_COLUMNS.id == bindparam("user_id")
+)
+
+
 async def current_user(request: Request) -> User | None:
+    """The signed-in, active user, or None. Looked up on every request (so deactivating an
+    account or changing a role takes effect at once) with one Core query on a connection that
+    goes straight back to the pool. The User returned is a read-only, transient copy (no
+    password hash): never add it to a session."""
     session = request.state.session
     user = None
     if session.user_id is not None:
-        # A session of its own, closed at once: the connection goes back to the pool before the
-        # route runs, so no request holds one while it waits for anything else.
-        with Session(request.app.state.engine, expire_on_commit=False) as db:
-            user = db.get(User, session.user_id)
-    if user is not None and not user.active:
-        user = None
+        with request.app.state.engine.connect() as connection:
+            row = connection.execute(_USER_BY_ID, {"user_id": session.user_id}).first()
+        if row is not None and row.active:
+            user = User(id=row.id, name=row.name, role=row.role, active=True, password_hash="")
     request.state.user = user
     return user
 
