@@ -7,8 +7,9 @@ arrive as InputProblems (403 for who, 409 for when) and render as the error page
 from __future__ import annotations
 
 import json
+from typing import Annotated
 
-from fastapi import APIRouter, Request
+from fastapi import APIRouter, File, Form, Request, UploadFile
 from fastapi.responses import RedirectResponse, Response
 
 from ..deps import DB, Viewer
@@ -23,9 +24,9 @@ def _back(revision_id: int) -> RedirectResponse:
     return RedirectResponse(f"/revisions/{revision_id}/review", status_code=303)
 
 
-async def _form(request: Request) -> dict[str, str]:
-    form = await request.form()
-    return {key: value for key, value in form.items() if isinstance(value, str)}
+# The action routes are plain functions, so FastAPI runs them in its thread pool: a request
+# waiting for the trail's lock never holds up the event loop or the other requests.
+Text = Annotated[str, Form()]
 
 
 @router.get("/revisions/{revision_id}/review")
@@ -34,37 +35,32 @@ def review_page(request: Request, db: DB, user: Viewer, revision_id: int):
 
 
 @router.post("/revisions/{revision_id}/hand-in")
-async def hand_in(request: Request, db: DB, user: Viewer, revision_id: int):
-    form = await _form(request)
-    review.hand_in(db, revision_id, user, form.get("note", ""))
+def hand_in(db: DB, user: Viewer, revision_id: int, note: Text = ""):
+    review.hand_in(db, revision_id, user, note)
     return _back(revision_id)
 
 
 @router.post("/revisions/{revision_id}/comments")
-async def comment(request: Request, db: DB, user: Viewer, revision_id: int):
-    form = await _form(request)
-    review.comment(db, revision_id, user, form.get("text", ""), form.get("finding"))
+def comment(db: DB, user: Viewer, revision_id: int, text: Text = "", finding: Text = ""):
+    review.comment(db, revision_id, user, text, finding)
     return _back(revision_id)
 
 
 @router.post("/revisions/{revision_id}/waivers")
-async def waive(request: Request, db: DB, user: Viewer, revision_id: int):
-    form = await _form(request)
-    review.waive(db, revision_id, user, form.get("finding", ""), form.get("justification", ""))
+def waive(db: DB, user: Viewer, revision_id: int, finding: Text = "", justification: Text = ""):
+    review.waive(db, revision_id, user, finding, justification)
     return _back(revision_id)
 
 
 @router.post("/revisions/{revision_id}/send-back")
-async def send_back(request: Request, db: DB, user: Viewer, revision_id: int):
-    form = await _form(request)
-    review.send_back(db, revision_id, user, form.get("note", ""))
+def send_back(db: DB, user: Viewer, revision_id: int, note: Text = ""):
+    review.send_back(db, revision_id, user, note)
     return _back(revision_id)
 
 
 @router.post("/revisions/{revision_id}/sign-off")
-async def sign_off(request: Request, db: DB, user: Viewer, revision_id: int):
-    form = await _form(request)
-    review.sign_off(db, revision_id, user, form.get("note", ""))
+def sign_off(db: DB, user: Viewer, revision_id: int, note: Text = ""):
+    review.sign_off(db, revision_id, user, note)
     return _back(revision_id)
 
 
@@ -72,20 +68,24 @@ MAX_UPLOAD = 1_000_000
 
 
 @router.post("/revisions/{revision_id}/replace")
-async def replace(request: Request, db: DB, user: Viewer, revision_id: int):
+def replace(
+    db: DB,
+    user: Viewer,
+    revision_id: int,
+    file: Annotated[UploadFile | None, File()] = None,
+    change_note: Text = "",
+):
     """The author uploads a new design file in place of a draft's."""
-    form = await request.form()
-    upload = form.get("file")
-    if upload is None or isinstance(upload, str) or not upload.filename:
+    if file is None or not file.filename:
         raise InputProblems([("file", "choose a design file (JSON, clampdown-design/1)")])
-    raw = await upload.read(MAX_UPLOAD + 1)
+    raw = file.file.read(MAX_UPLOAD + 1)
     if len(raw) > MAX_UPLOAD:
         raise InputProblems([("file", f"larger than {MAX_UPLOAD // 1000} kB; a design file is a few kB")])
     try:
         document = json.loads(raw.decode("utf-8"))
     except (UnicodeDecodeError, json.JSONDecodeError) as exc:
         raise InputProblems([("file", f"not JSON ({exc})")]) from None
-    review.replace_draft(db, revision_id, user, document, str(form.get("change_note", "")))
+    review.replace_draft(db, revision_id, user, document, change_note)
     return _back(revision_id)
 
 
