@@ -45,6 +45,8 @@ def _refusal(exc: Refused, state: str, action: str, who, author_id: int) -> Inpu
 
 def _text(name: str, value: str | None, *, required: bool, minimum: int = 1) -> str:
     value = (value or "").strip()
+    if "\x00" in value:
+        raise InputProblems([(name, "must not contain NUL characters")])
     if required and len(value) < minimum:
         need = "must not be empty" if minimum == 1 else f"must be at least {minimum} characters"
         raise InputProblems([(name, need)])
