@@ -74,3 +74,13 @@ def test_changing_the_drive_kind_rerenders_the_fields(designer, world):
     divider = fields.split('for="f-drive-r_fixed"')[0].rsplit('<div class="field', 1)[1]
     assert "inactive" not in divider
     assert "drive.r_fixed" in response.text and "is required" in response.text
+
+
+def test_nul_characters_and_overlong_notes_are_refused_by_name(designer):
+    fixture = designer.post("/api/v1/fixtures", json={"name": "Bench\x00rig"})
+    assert fixture.status_code == 422 and "NUL" in fixture.text
+    params = {"vrrm": 100, "if_avg": 1, "i_peak": 30, "vf": 1, "vf_at": 1}
+    part = designer.post(
+        "/api/v1/parts", json={"kind": "diode", "name": "D", "params": params, "notes": "n" * 5001}
+    )
+    assert part.status_code == 422 and part.json()["detail"][0]["loc"] == ["notes"]

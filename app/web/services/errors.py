@@ -34,3 +34,16 @@ def split_problem(line: str, prefix: str = "") -> tuple[str, str]:
     elif prefix:
         path = f"{prefix}.{path}"
     return (path, message)
+
+
+def check_text(field: str, value: str | None, limit: int, required: bool = False) -> str:
+    """A stripped text value within its column's length, without NUL characters (which
+    PostgreSQL text cannot hold); raises InputProblems naming the field otherwise."""
+    value = (value or "").strip()
+    if required and not value:
+        raise InputProblems([(field, "must not be empty")])
+    if len(value) > limit:
+        raise InputProblems([(field, f"is too long (at most {limit} characters)")])
+    if "\x00" in value:
+        raise InputProblems([(field, "must not contain NUL characters")])
+    return value

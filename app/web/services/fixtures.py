@@ -11,17 +11,12 @@ from sqlmodel import Session, select
 from app.engine import ENGINE_VERSION
 
 from ..models import Channel, Fixture, Report, Revision, User
-from .errors import InputProblems, NotFound
+from .errors import InputProblems, NotFound, check_text
 from .reports import cached_report
 
 
 def _text(field: str, value: str, limit: int, required: bool = True) -> str:
-    value = (value or "").strip()
-    if required and not value:
-        raise InputProblems([(field, "must not be empty")])
-    if len(value) > limit:
-        raise InputProblems([(field, f"is too long (at most {limit} characters)")])
-    return value
+    return check_text(field, value, limit, required)
 
 
 def create_fixture(db: Session, name: str, description: str = "") -> Fixture:

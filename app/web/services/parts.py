@@ -13,7 +13,7 @@ from app.engine.design import Coil, DesignError, Diode, Transistor, Tvs, Zener, 
 
 from ..models import PART_KINDS, Part, RevisionPart, utcnow
 from .documents import typed_value
-from .errors import InputProblems, NotFound, split_problem
+from .errors import InputProblems, NotFound, check_text, split_problem
 
 PART_MODELS = {"transistor": Transistor, "diode": Diode, "zener": Zener, "tvs": Tvs, "coil": Coil}
 KIND_TITLES = {
@@ -63,11 +63,11 @@ def validate_part(kind: str, name: str, params: dict) -> dict:
     """Validate with the engine's model for the kind; return the cleaned parameters."""
     kept = clean_params(kind, params)
     problems = []
-    name = (name or "").strip()
-    if not name:
-        problems.append(("name", "must not be empty"))
-    elif len(name) > 200:
-        problems.append(("name", "is too long (at most 200 characters)"))
+    try:
+        name = check_text("name", name, 200, required=True)
+    except InputProblems as exc:
+        problems += exc.problems
+        name = ""
     from .documents import part_document
 
     probe = Part(kind=kind, name=name or "unnamed", params=kept)
@@ -89,6 +89,7 @@ def _name_taken(db: Session, kind: str, name: str, except_id: int | None = None)
 
 def create_part(db: Session, kind: str, name: str, params: dict, notes: str = "") -> Part:
     kept = validate_part(kind, name, params)
+    notes = check_text("notes", notes, 5000)
     name = name.strip()
     if _name_taken(db, kind, name):
         raise InputProblems(
@@ -105,6 +106,7 @@ def update_part(db: Session, part_id: int, name: str, params: dict, notes: str =
     """Change a library part. Stored revisions keep their own frozen copies, so none changes."""
     part = get_part(db, part_id)
     kept = validate_part(part.kind, name, params)
+    notes = check_text("notes", notes, 5000)
     name = name.strip()
     if _name_taken(db, part.kind, name, except_id=part.id):
         raise InputProblems(
@@ -159,7 +161,8 @@ def search_parts(
         _check_kind(kind)
         query = query.where(Part.kind == kind)
     if q.strip():
-        query = query.where(func.lower(Part.name).contains(q.strip().lower(), autoescape=True))
+        text = q.strip().lower().replace("\x00", "")
+        query = query.where(func.lower(Part.name).contains(text, autoescape=True))
     if not include_archived:
         query = query.where(Part.archived == False)  # noqa: E712
     return list(db.exec(query.order_by(Part.kind, Part.name).limit(limit)))
@@ -200,6 +203,7 @@ def import_csv(db: Session, kind: str, text: str) -> dict[str, int]:
         params = {k: v for k, v in row.items() if k not in ("name", "notes") and k is not None}
         try:
             kept = validate_part(kind, name, params)
+            check_text("notes", row.get("notes"), 5000)
         except InputProblems as exc:
             problems += [(f"row {number}.{path}", message) for path, message in exc.problems]
             continue

@@ -12,7 +12,7 @@ from app.engine import DesignError, parse_design
 from ..models import Channel, Fixture, Part, Report, Revision, RevisionPart, User
 from . import review, trail
 from .documents import SLOT_KINDS, content_hash, get_path, part_document
-from .errors import InputProblems, NotFound, split_problem
+from .errors import InputProblems, NotFound, check_text, split_problem
 from .reports import cached_report
 
 
@@ -61,9 +61,7 @@ def create_revision(
         raise NotFound(f"channel {channel_id}")
     if not isinstance(document, dict):
         raise InputProblems([("document", "the design file must be a JSON object")])
-    change_note = (change_note or "").strip()
-    if len(change_note) > 5000:
-        raise InputProblems([("change_note", "is too long (at most 5000 characters)")])
+    change_note = check_text("change_note", change_note, 5000)
     validate_document(document)
     digest = content_hash(document)
     links = part_links if part_links is not None else _link_by_name(db, document)

@@ -43,6 +43,9 @@ def create_user(db: Session, name: str, password: str, role: str) -> User:
 
 
 def authenticate(db: Session, name: str, password: str) -> User | None:
+    if "\x00" in (name or "") or len(name or "") > 80:
+        verify_password(DUMMY_HASH, password or "")
+        return None
     user = db.exec(select(User).where(func.lower(User.name) == (name or "").strip().lower())).first()
     if user is None or not user.active:
         verify_password(DUMMY_HASH, password or "")
