@@ -21,6 +21,11 @@ def _g(x: float) -> str:
 
 
 def _clamp_lines(path: ClampPath, index: int) -> list[str]:
+    """The clamp's elements.
+
+    A series resistance of zero is left out rather than written as a tiny resistor: a
+    micro-ohm element makes ngspice's matrix so stiff that the run stalls.
+    """
     lines: list[str] = []
     if path.diode is not None:
         d = path.diode
@@ -35,8 +40,11 @@ def _clamp_lines(path: ClampPath, index: int) -> list[str]:
         # BV = V_Z − I_ZT·R_Z makes V(I_ZT) = V_Z as in the engine's model.
         lines.append(f".model dzener D(BV={_g(v_br - b.i_test * b.r_s)} IBV={_g(b.i_test)} NBV=1)")
         lines.append("D1 sw k dclamp")
-        lines.append(f"RZ k z {_g(max(b.r_s, 1e-6))}")
-        lines.append("DZ vcc z dzener")
+        if b.r_s > 0:
+            lines.append(f"RZ k z {_g(b.r_s)}")
+            lines.append("DZ vcc z dzener")
+        else:
+            lines.append("DZ vcc k dzener")
     elif kind == "diode_resistor":
         lines.append("D1 sw k dclamp")
         lines.append(f"RS k vcc {_g(path.r[index])}")
@@ -45,8 +53,11 @@ def _clamp_lines(path: ClampPath, index: int) -> list[str]:
     elif kind == "tvs_switch":
         b = path.breakdown
         lines.append(f".model dtvs D(BV={_g(b.v_br - b.i_test * b.r_s)} IBV={_g(b.i_test)} NBV=1)")
-        lines.append(f"RT sw t {_g(max(b.r_s, 1e-6))}")
-        lines.append("DT 0 t dtvs")
+        if b.r_s > 0:
+            lines.append(f"RT sw t {_g(b.r_s)}")
+            lines.append("DT 0 t dtvs")
+        else:
+            lines.append("DT 0 sw dtvs")
     else:
         raise ValueError("an unclamped coil has no finite turn-off to simulate")
     return lines
@@ -71,16 +82,33 @@ def netlist(design: Design, corner: str = "nominal") -> str:
     i0 = float(to.initial_current[index])
     ido = float(op.dropout_current)
     t_expected = float(to.time_to_dropout[index])
+    clamp_lines = _clamp_lines(path, index)
+    r_coil = float(op.r_coil[index])
     t_stop = 3 * t_expected if np.isfinite(t_expected) and t_expected > 0 else 1e-2
+    # The switch is a current sink that carries the coil's current (plus what the clamp
+    # draws while on: a resistor's V/R, a reverse-biased diode's I_S) and drops it to zero
+    # in a short t_open, so that the coil carries I_0 as in the engine. ngspice then
+    # starts from its own operating point with I_0 in the coil: "uic" node voltages are
+    # inconsistent with that current, and ngspice stalls ("timestep too small") or drifts.
+    i_switch = i0 + (r_coil * i0 / float(path.r[index]) if path.kind == "resistor" else 0.0)
+    i_switch += path.diode.i_s if path.diode is not None else 0.0
+    t_open = t_stop * 1e-4
     lines = [
         f"* Clampdown turn-off of {design.name!s} ({label})".replace("\n", " "),
-        f"* I_0 = {_g(i0)} A, drop-out current {_g(ido)} A; switch open from t = 0",
+        f"* I_0 = {_g(i0)} A, drop-out current {_g(ido)} A; switch opens at t = 0 (within {_g(t_open)} s)",
         f"VCC vcc 0 DC {_g(vcc)}",
-        f"RCOIL vcc a {_g(op.r_coil[index])}",
+        f"RCOIL vcc a {_g(r_coil)}",
+        # IC= documents I_0; without uic ngspice takes it from the operating point instead.
         f"LCOIL a b {_g(design.coil.inductance)} IC={_g(i0)}",
         "VSENSE b sw DC 0",
-        *_clamp_lines(path, index),
-        f".tran {_g(t_stop / 4000)} {_g(t_stop)} 0 {_g(t_stop / 4000)} uic",
+        f"ISW sw 0 PWL(0 {_g(i_switch)} {_g(t_open)} 0)",
+        *clamp_lines,
+        # The clamp's nodes have no capacitance: with the default RELTOL (1e-3) ngspice
+        # accepts junction voltages off by tenths of a volt, and a diode fed by the coil's
+        # current alone may not converge (default ABSTOL 1 pA, no path to ground); 100 MΩ
+        # to every node (< 1 µA) and a 1 nA current tolerance cure that.
+        ".options reltol=1e-4 abstol=1e-9 rshunt=1e8",
+        f".tran {_g(t_stop / 4000)} {_g(t_stop)} 0 {_g(t_stop / 4000)}",
         ".meas tran peak_switch_voltage MAX v(sw)",
         f".meas tran time_to_dropout WHEN i(VSENSE)={_g(ido)} FALL=1",
         ".end",

@@ -1,0 +1,86 @@
+"""Speed of one full review against one ngspice run of the same circuit, in the same run.
+
+    python benchmarks/engine.py [--designs 200] [--seed 2024]
+
+Generates seeded random designs of every clamp kind (tests/designgen.py), then prints the
+median time of app.engine.evaluate (every rule, every worst-case corner, the turn-off) and
+the median time of `ngspice -b` on the nominal-corner netlist of the same circuits
+(app.engine.netlist.netlist), and their ratio. The goal is an evaluation at least 20 times
+faster than one simulator run of one corner. Nothing is asserted.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib.util
+import random
+import shutil
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+
+from app.engine import evaluate, parse_design  # noqa: E402
+from app.engine.netlist import netlist  # noqa: E402
+
+_spec = importlib.util.spec_from_file_location("designgen", ROOT / "tests" / "designgen.py")
+designgen = importlib.util.module_from_spec(_spec)
+_spec.loader.exec_module(designgen)
+
+
+def _median_ms(samples: list[float]) -> float:
+    return statistics.median(samples) * 1e3
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--designs", type=int, default=200)
+    parser.add_argument("--seed", type=int, default=2024)
+    args = parser.parse_args()
+
+    rng = random.Random(args.seed)
+    kinds = designgen.CLAMP_KINDS
+    designs = [parse_design(designgen.random_design(rng, kinds[i % len(kinds)])) for i in range(args.designs)]
+
+    for design in designs[:10]:  # warm-up: imports, numpy's first calls
+        evaluate(design)
+    engine_times = []
+    for design in designs:
+        start = time.perf_counter()
+        evaluate(design)
+        engine_times.append(time.perf_counter() - start)
+    engine_ms = _median_ms(engine_times)
+    corners = statistics.median(evaluate(d)["corners"] for d in designs)
+    print(f"designs: {len(designs)} ({', '.join(kinds)}), seed {args.seed}, median {corners:g} corners each")
+    print(f"engine:  median {engine_ms:.3f} ms per full evaluation (every rule, every corner, turn-off)")
+
+    ngspice = shutil.which("ngspice")
+    if ngspice is None:
+        print("ngspice: not installed (apt-get install ngspice); no ratio")
+        return
+    clamped = [d for d in designs if d.clamp.kind != "none"]
+    spice_times = []
+    failures = 0
+    with tempfile.TemporaryDirectory() as tmp:
+        for number, design in enumerate(clamped):
+            path = Path(tmp) / f"circuit-{number}.cir"
+            path.write_text(netlist(design, "nominal"), encoding="utf-8")
+            start = time.perf_counter()
+            done = subprocess.run([ngspice, "-b", str(path)], capture_output=True, text=True)
+            spice_times.append(time.perf_counter() - start)
+            failures += done.returncode != 0 or "time_to_dropout" not in done.stdout
+    spice_ms = _median_ms(spice_times)
+    print(
+        f"ngspice: median {spice_ms:.3f} ms per `ngspice -b` run of one corner "
+        f"({len(clamped)} clamped circuits, {failures} without a result)"
+    )
+    print(f"ratio:   the engine is {spice_ms / engine_ms:.1f}x faster than one ngspice run (goal >= 20x)")
+
+
+if __name__ == "__main__":
+    main()
