@@ -32,20 +32,25 @@ class Corners:
 
     def describe(self, index: int) -> dict[str, float]:
         """The parameter values of one corner, for a finding's ``corner``."""
-        return {name: float(f"{array[index]:.12g}") for name, array in self.values.items()}
+        return {name: float(array[index]) for name, array in self.values.items()}
 
     def __getitem__(self, name: str) -> np.ndarray:
         return self.values[name]
 
 
+def _round(x: float) -> float:
+    """12 significant digits, so a corner reads 26.4 V, not 26.400000000000002 V."""
+    return float(f"{x:.12g}")
+
+
 def _spread(nominal: float, tolerance: float) -> tuple[float, float]:
-    return nominal * (1 - tolerance), nominal * (1 + tolerance)
+    return _round(nominal * (1 - tolerance)), _round(nominal * (1 + tolerance))
 
 
 def factors(design: Design) -> list[Factor]:
     """The parameters of this design that vary, with their low and high extremes."""
     out = [
-        Factor("supply", design.supply.low, design.supply.high, "V"),
+        Factor("supply", _round(design.supply.low), _round(design.supply.high), "V"),
         Factor("ambient", design.ambient.min, design.ambient.max, "°C"),
         Factor("r_coil", *_spread(design.coil.r_coil, design.coil.tolerance), "Ω"),
         Factor("r_series", *_spread(design.base.r_series, design.base.tolerance), "Ω"),

@@ -90,6 +90,10 @@ def rule(rule_id: str, title: str):
     return register
 
 
+def _at(x: np.ndarray | float, index: int) -> float:
+    return float(x[index]) if np.ndim(x) else float(x)
+
+
 def judge(
     ctx: Context,
     rule_id: str,
@@ -108,30 +112,37 @@ def judge(
     The worst corner is the one furthest past the rating if any is, else past the limit.
     """
     n = ctx.corners.size
-    value = np.broadcast_to(np.asarray(value, dtype=float), (n,))
-    rating = np.broadcast_to(np.asarray(rating, dtype=float), (n,))
-    limit = np.broadcast_to(np.asarray(limit, dtype=float), (n,))
+    value = np.asarray(value, dtype=float)
+    if value.shape != (n,):
+        value = np.full(n, value)
     with np.errstate(divide="ignore", invalid="ignore"):
         if keep_below:
-            over_rating = np.where(np.isinf(value), np.inf, value / rating)
-            over_limit = np.where(np.isinf(value), np.inf, value / limit)
+            over_rating = value / rating
+            over_limit = value / limit
+            infinite = np.isinf(value)
+            if infinite.any():
+                over_rating[infinite] = over_limit[infinite] = np.inf
         else:
-            over_rating = np.where(value > 0, rating / value, np.inf)
-            over_limit = np.where(value > 0, limit / value, np.inf)
-    if np.any(over_rating > 1):
-        worst, status = int(np.argmax(over_rating)), "violation"
-    elif np.any(over_limit > 1):
-        worst, status = int(np.argmax(over_limit)), "marginal"
+            over_rating = rating / value
+            over_limit = limit / value
+            nonpositive = value <= 0
+            if nonpositive.any():
+                over_rating = np.where(nonpositive, np.inf, over_rating)
+                over_limit = np.where(nonpositive, np.inf, over_limit)
+    worst_rating = int(np.argmax(over_rating))
+    if over_rating[worst_rating] > 1:
+        worst, status = worst_rating, "violation"
     else:
-        worst, status = int(np.argmax(over_limit)), "ok"
+        worst = int(np.argmax(over_limit))
+        status = "marginal" if over_limit[worst] > 1 else "ok"
     return Finding(
         rule=rule_id,
         title=RULES[rule_id].title,
         status=status,
         value=float(value[worst]),
         unit=unit,
-        limit=float(limit[worst]),
-        rating=float(rating[worst]),
+        limit=_at(limit, worst),
+        rating=_at(rating, worst),
         corner=ctx.corners.describe(worst),
         message=message(worst, status),
     )
