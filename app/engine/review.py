@@ -52,7 +52,9 @@ def _alternatives(ctx: Context) -> list[dict]:
         r = v_budget / i0_worst
         candidates.append((f"resistor {r:.0f} Ω", ClampPath("resistor", vcc, r=np.array([r]))))
     for label, path in candidates:
-        alt = turn_off(path, design.coil.inductance, nom.r_coil, to.initial_current, nom.dropout_current)
+        alt = turn_off(
+            path, design.coil.inductance, nom.r_coil, to.initial_current, nom.dropout_current, energies=False
+        )
         t = float(alt.time_to_dropout[0])
         out.append(
             {

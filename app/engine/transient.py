@@ -116,13 +116,31 @@ class TurnOff:
     charge: np.ndarray  # ∫ i dt through the clamp per turn-off
 
 
+def _energies(path: ClampPath, inductance: float, decay_rate, i0: np.ndarray):
+    """Charge and energies per turn-off. The current decays to 1/1000 of I_0 here (the rest is
+    < 1e-6 of the energy); one grid serves all three integrals: dt = L·di / (R·i + v_c(i))."""
+    i, w = _log_grid(i0 * 1e-3, i0)
+    dt = w * inductance / decay_rate(i)
+    charge = (dt * i).sum(axis=1)
+    clamp_energy = (dt * i * path.device_voltage(i)).sum(axis=1)
+    if path.diode is not None:
+        diode_energy = (dt * i * path.diode.voltage(i)).sum(axis=1)
+    else:
+        diode_energy = np.zeros_like(i0)
+    return charge, clamp_energy, diode_energy
+
+
 def turn_off(
     path: ClampPath,
     inductance: float,
     r_coil: np.ndarray,
     initial_current: np.ndarray,
     dropout_current: float,
+    *,
+    energies: bool = True,
 ) -> TurnOff:
+    """The turn-off at every corner; ``energies=False`` skips the charge and energy integrals
+    (left as NaN) when only the spike and the release time are wanted."""
     i0 = np.asarray(initial_current, dtype=float)
     r = np.asarray(r_coil, dtype=float)[:, None]
 
@@ -135,16 +153,10 @@ def turn_off(
     lower = np.where(picked, ido, i0)
     with np.errstate(divide="ignore", invalid="ignore"):
         t = _integrate_log(lambda i: inductance / decay_rate(i), lower, i0)
-        # The current decays to 1/1000 of I_0 for the energy and charge (the rest is < 1e-6 of E).
-        # One grid serves all three integrals: dt = L·di / (R·i + v_c(i)).
-        i, w = _log_grid(i0 * 1e-3, i0)
-        dt = w * inductance / decay_rate(i)
-        charge = (dt * i).sum(axis=1)
-        clamp_energy = (dt * i * path.device_voltage(i)).sum(axis=1)
-        if path.diode is not None:
-            diode_energy = (dt * i * path.diode.voltage(i)).sum(axis=1)
+        if energies:
+            charge, clamp_energy, diode_energy = _energies(path, inductance, decay_rate, i0)
         else:
-            diode_energy = np.zeros_like(i0)
+            charge = clamp_energy = diode_energy = np.full_like(i0, np.nan)
     # A clamp that holds the current up (its voltage below the supply) never lets it decay.
     stuck = (decay_rate(lower[:, None])[:, 0] <= 0) & picked
     t = np.where(stuck, np.inf, np.where(picked, t, 0.0))
