@@ -24,6 +24,14 @@ class NotFound(Exception):
         self.what = what
 
 
+def get_or_not_found(db, model, row_id: int, what: str):
+    """The row of ``model`` with this id, or NotFound naming it ("revision 12 not found")."""
+    row = db.get(model, row_id)
+    if row is None:
+        raise NotFound(f"{what} {row_id}")
+    return row
+
+
 def split_problem(line: str, prefix: str = "") -> tuple[str, str]:
     """ "coil.inductance: "-3" must be positive" -> ("coil.inductance", '"-3" must be positive')."""
     path, sep, message = line.partition(": ")

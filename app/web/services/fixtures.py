@@ -11,7 +11,7 @@ from sqlmodel import Session, select
 from app.engine import ENGINE_VERSION
 
 from ..models import Channel, Fixture, Report, Revision, User
-from .errors import InputProblems, NotFound, check_text
+from .errors import InputProblems, check_text, get_or_not_found
 from .reports import cached_report
 
 
@@ -48,17 +48,11 @@ def create_channel(
 
 
 def get_fixture(db: Session, fixture_id: int) -> Fixture:
-    fixture = db.get(Fixture, fixture_id)
-    if fixture is None:
-        raise NotFound(f"fixture {fixture_id}")
-    return fixture
+    return get_or_not_found(db, Fixture, fixture_id, "fixture")
 
 
 def get_channel(db: Session, channel_id: int) -> Channel:
-    channel = db.get(Channel, channel_id)
-    if channel is None:
-        raise NotFound(f"channel {channel_id}")
-    return channel
+    return get_or_not_found(db, Channel, channel_id, "channel")
 
 
 def list_fixtures(db: Session) -> list[Fixture]:

@@ -13,7 +13,7 @@ from app.engine.design import Coil, DesignError, Diode, Transistor, Tvs, Zener, 
 
 from ..models import PART_KINDS, Part, RevisionPart, utcnow
 from .documents import typed_value
-from .errors import InputProblems, NotFound, check_text, split_problem
+from .errors import InputProblems, check_text, get_or_not_found, split_problem
 
 PART_MODELS = {"transistor": Transistor, "diode": Diode, "zener": Zener, "tvs": Tvs, "coil": Coil}
 KIND_TITLES = {
@@ -120,10 +120,7 @@ def update_part(db: Session, part_id: int, name: str, params: dict, notes: str =
 
 
 def get_part(db: Session, part_id: int) -> Part:
-    part = db.get(Part, part_id)
-    if part is None:
-        raise NotFound(f"part {part_id}")
-    return part
+    return get_or_not_found(db, Part, part_id, "part")
 
 
 def is_used(db: Session, part_id: int) -> bool:

@@ -12,7 +12,7 @@ from app.engine import DesignError, parse_design
 from ..models import Channel, Fixture, Part, Report, Revision, RevisionPart, User
 from . import review, trail
 from .documents import SLOT_KINDS, content_hash, get_path, part_document
-from .errors import InputProblems, NotFound, check_text, split_problem
+from .errors import InputProblems, NotFound, check_text, get_or_not_found, split_problem
 from .reports import cached_report
 
 
@@ -104,10 +104,7 @@ class RevisionView:
 
 
 def get_revision(db: Session, revision_id: int) -> Revision:
-    revision = db.get(Revision, revision_id)
-    if revision is None:
-        raise NotFound(f"revision {revision_id}")
-    return revision
+    return get_or_not_found(db, Revision, revision_id, "revision")
 
 
 def revision_view(db: Session, revision_id: int) -> RevisionView:
