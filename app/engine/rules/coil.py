@@ -1,0 +1,83 @@
+"""Coil rules: pick-up when hot, over-voltage, release time."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .core import Context, Finding, _si, judge, note, rule
+
+
+@rule("coil.pickup", "Coil pick-up when hot")
+def pickup(ctx: Context) -> Finding:
+    """Coil voltage on = V_cc − V_CE(sat) (or h_FE(min)·I_B·R_coil when not saturated) against the
+    must-operate voltage at the hot coil, V_pu(T) = V_pu(T_ref)·R(T)/R(T_ref) with
+    R(T) = R(20 °C)·(1 + α(T − 20)), α = 0.00393 /K (copper, IEC 60028). The coil temperature is
+    the ambient plus self-heating at the highest supply when the coil's R_th is given.
+    Limit: must-operate × (1 + pick-up margin)."""
+    op = ctx.op
+    rating = op.must_operate_hot
+    return judge(
+        ctx,
+        "coil.pickup",
+        op.coil_voltage_hot,
+        rating,
+        rating * (1 + ctx.profile.pickup_margin),
+        "V",
+        keep_below=False,
+        message=lambda i, s: (
+            f"{_si(op.coil_voltage_hot[i], 'V')} on the coil at {op.coil_temp_hot[i]:.0f} °C, must-operate {_si(rating[i], 'V')} there"
+        ),
+    )
+
+
+@rule("coil.overvoltage", "Coil over-voltage")
+def overvoltage(ctx: Context) -> Finding:
+    """Coil voltage V_cc,max − V_CE(sat) against the coil's maximum continuous voltage. The
+    maker's figure already carries the coil's thermal margin, so the limit is the rating."""
+    op, coil = ctx.op, ctx.design.coil
+    return judge(
+        ctx,
+        "coil.overvoltage",
+        op.coil_voltage,
+        coil.v_max,
+        coil.v_max,
+        "V",
+        keep_below=True,
+        message=lambda i, s: (
+            f"{_si(op.coil_voltage[i], 'V')} on a coil rated {_si(coil.v_max, 'V')} continuous"
+        ),
+    )
+
+
+@rule("coil.release", "Release time")
+def release(ctx: Context) -> Finding:
+    """Time for the coil current to fall from I_0 to the drop-out current I_do = V_do/R_coil(T_ref):
+    t = ∫ from I_do to I_0 of L / (R·i + v_c(i)) di (for a constant v_c,
+    t = τ·ln((I_0 + v_c/R)/(I_do + v_c/R)), τ = L/R). A note unless max_release_time is set."""
+    t = ctx.turnoff.time_to_dropout
+    limit = ctx.design.requirements.max_release_time
+    nominal = float(ctx.turnoff_nominal.time_to_dropout[0])
+    alternatives = ctx.extras.get("alternatives", [])
+    alt = "; ".join(
+        f"{a['clamp']} {_si(a['time_to_dropout'], 's')}"
+        for a in alternatives
+        if a["time_to_dropout"] is not None
+    )
+    suffix = f" (nominal {_si(nominal, 's')}" + (f"; alternatives at nominal: {alt})" if alt else ")")
+    if ctx.path.kind == "none":
+        suffix = " — unclamped: an upper bound, with the node held at V_(BR)CEO" + suffix
+    if limit is None:
+        worst = int(np.argmax(t))
+        return note(
+            ctx, "coil.release", float(t[worst]), "s", f"slowest release {_si(t[worst], 's')}{suffix}", worst
+        )
+    return judge(
+        ctx,
+        "coil.release",
+        t,
+        limit,
+        limit,
+        "s",
+        keep_below=True,
+        message=lambda i, s: f"{_si(t[i], 's')} to drop-out, required ≤ {_si(limit, 's')}{suffix}",
+    )

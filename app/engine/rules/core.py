@@ -1,0 +1,159 @@
+"""What every review rule shares: the Finding, the evaluation Context, the registry ``RULES`` and
+``judge()``, which picks a rule's worst corner and its status.
+
+A rule receives the evaluation context (every corner at once, as arrays) and returns a
+Finding, or None when it does not apply to this design (e.g. no diode in the clamp).
+"""
+
+from __future__ import annotations
+
+import inspect
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from typing import Literal
+
+import numpy as np
+
+from ..circuit import OperatingPoint
+from ..corners import Corners
+from ..design import Design
+from ..profile import Profile
+from ..transient import ClampPath, TurnOff
+from ..units import format_si
+
+Status = Literal["violation", "marginal", "ok", "note"]
+STATUS_ORDER: dict[str, int] = {"violation": 3, "marginal": 2, "ok": 1, "note": 0}
+
+
+@dataclass(frozen=True)
+class Finding:
+    rule: str
+    title: str
+    status: Status
+    value: float | None
+    unit: str
+    limit: float | None
+    rating: float | None
+    corner: dict[str, float]
+    message: str
+
+    def as_dict(self) -> dict:
+        def num(x):
+            return None if x is None or not np.isfinite(x) else float(x)
+
+        return {
+            "rule": self.rule,
+            "title": self.title,
+            "status": self.status,
+            "value": num(self.value),
+            "unit": self.unit,
+            "limit": num(self.limit),
+            "rating": num(self.rating),
+            "corner": self.corner,
+            "message": self.message,
+        }
+
+
+@dataclass
+class Context:
+    design: Design
+    profile: Profile
+    corners: Corners
+    op: OperatingPoint  # every worst-case corner
+    nominal: OperatingPoint
+    path: ClampPath  # the clamp at every worst-case corner
+    nominal_path: ClampPath
+    turnoff: TurnOff  # every worst-case corner
+    turnoff_nominal: TurnOff
+    extras: dict = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class Rule:
+    id: str
+    title: str
+    check: Callable[[Context], Finding | None]
+
+    @property
+    def formula(self) -> str:
+        return inspect.cleandoc(self.check.__doc__ or "")
+
+
+RULES: dict[str, Rule] = {}
+
+
+def rule(rule_id: str, title: str):
+    def register(check: Callable[[Context], Finding | None]):
+        RULES[rule_id] = Rule(rule_id, title, check)
+        return check
+
+    return register
+
+
+def _at(x: np.ndarray | float, index: int) -> float:
+    return float(x[index]) if np.ndim(x) else float(x)
+
+
+def judge(
+    ctx: Context,
+    rule_id: str,
+    value: np.ndarray,
+    rating: np.ndarray | float,
+    limit: np.ndarray | float,
+    unit: str,
+    *,
+    keep_below: bool,
+    message: Callable[[int, Status], str],
+) -> Finding:
+    """Pick the worst corner and its status.
+
+    ``keep_below``: the value must stay at or below the limit (a stress); otherwise at or above
+    it (a margin). Beyond the absolute rating is a violation, beyond the derated limit marginal.
+    The worst corner is the one furthest past the rating if any is, else past the limit.
+    """
+    n = ctx.corners.size
+    value = np.asarray(value, dtype=float)
+    if value.shape != (n,):
+        value = np.full(n, value)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        if keep_below:
+            over_rating = value / rating
+            over_limit = value / limit
+            infinite = np.isinf(value)
+            if infinite.any():
+                over_rating[infinite] = over_limit[infinite] = np.inf
+        else:
+            over_rating = rating / value
+            over_limit = limit / value
+            nonpositive = value <= 0
+            if nonpositive.any():
+                over_rating = np.where(nonpositive, np.inf, over_rating)
+                over_limit = np.where(nonpositive, np.inf, over_limit)
+    worst_rating = int(np.argmax(over_rating))
+    if over_rating[worst_rating] > 1:
+        worst, status = worst_rating, "violation"
+    else:
+        worst = int(np.argmax(over_limit))
+        status = "marginal" if over_limit[worst] > 1 else "ok"
+    return Finding(
+        rule=rule_id,
+        title=RULES[rule_id].title,
+        status=status,
+        value=float(value[worst]),
+        unit=unit,
+        limit=_at(limit, worst),
+        rating=_at(rating, worst),
+        corner=ctx.corners.describe(worst),
+        message=message(worst, status),
+    )
+
+
+def note(
+    ctx: Context, rule_id: str, value: float | None, unit: str, message: str, index: int | None = None
+) -> Finding:
+    corner = ctx.corners.describe(index) if index is not None else {}
+    return Finding(rule_id, RULES[rule_id].title, "note", value, unit, None, None, corner, message)
+
+
+def _si(x: float, unit: str) -> str:
+    return format_si(float(x), unit)

@@ -1,0 +1,23 @@
+"""Resistor rules: the power in the resistors of the drive."""
+
+from __future__ import annotations
+
+from .core import Context, Finding, _si, judge, rule
+
+
+@rule("resistor.power", "Base resistor power")
+def resistor_power(ctx: Context) -> Finding:
+    """P_Rb = I_Rb²·R_b with the current through R_b itself (the drop across R_b alone, not the
+    source's own resistance), against its rating derated by the profile's power fraction."""
+    op, base = ctx.op, ctx.design.base
+    power = op.base_resistor_current**2 * op.r_series
+    return judge(
+        ctx,
+        "resistor.power",
+        power,
+        base.power_rating,
+        ctx.profile.power * base.power_rating,
+        "W",
+        keep_below=True,
+        message=lambda i, s: f"{_si(power[i], 'W')} in R_b {_si(op.r_series[i], 'Ω')}",
+    )
