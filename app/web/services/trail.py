@@ -121,8 +121,14 @@ def entries_for(db: Session, revision_id: int) -> list[TrailEntry]:
 
 
 def last_seq_for(db: Session, revision_id: int) -> int:
-    """The newest entry of one revision (0 when none): part of the revision page's cache key."""
+    """The newest entry of one revision (0 when none)."""
     return db.exec(select(func.max(TrailEntry.seq)).where(TrailEntry.revision_id == revision_id)).one() or 0
+
+
+def data_version(db: Session) -> int:
+    """The database's change counter (trail_guard): larger after any change to revisions,
+    reports, accounts, channels, fixtures or trail entries. Part of every cached fragment's key."""
+    return trail_guard.data_version(db.connection())
 
 
 @dataclass(frozen=True)
