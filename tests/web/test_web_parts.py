@@ -132,7 +132,7 @@ def test_csv_export_neutralises_formulas_and_imports_them_back(designer):
     """OWASP, "CSV Injection": a cell starting with = + - @ (or tab, CR) is prefixed with an
     apostrophe so spreadsheets show it as text; import strips exactly that apostrophe."""
     made = []
-    for number, text in enumerate(FORMULAS):
+    for text in FORMULAS:
         response = designer.post(
             "/api/v1/parts",
             json={
