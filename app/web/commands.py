@@ -22,7 +22,7 @@ def _serve(args: argparse.Namespace) -> int:
     from .db import make_engine, migrate
 
     settings = _settings()
-    migrate(make_engine(settings.database_url))
+    migrate(make_engine(settings.database_url), settings.trail_key)
     print(f"Clampdown on http://{args.host}:{args.port}/  (database {settings.database_url})", flush=True)
     if args.workers > 1:
         uvicorn.run(
@@ -45,7 +45,7 @@ def _demo(args: argparse.Namespace) -> int:
     data_dir = os.path.abspath(args.data_dir)
     settings = Settings(data_dir=data_dir, database_url=f"sqlite:///{os.path.join(data_dir, 'demo.sqlite3')}")
     settings = settings.resolved()
-    engine = build_demo(settings.database_url, fresh=True)
+    engine = build_demo(settings.database_url, fresh=True, trail_key=settings.trail_key)
     url = f"http://{args.host}:{args.port}/"
     print(f"Clampdown demo on {url}  (a fresh database in {data_dir})")
     print("Sign in as one of (password for all: " + DEMO_PASSWORD + "):")
@@ -69,8 +69,9 @@ def _user_add(args: argparse.Namespace) -> int:
             password = sys.stdin.readline().rstrip("\n")
         else:
             password = getpass.getpass(f"password for {args.name}: ")
-    engine = make_engine(_settings().database_url)
-    migrate(engine)
+    settings = _settings()
+    engine = make_engine(settings.database_url)
+    migrate(engine, settings.trail_key)
     try:
         with session_scope(engine) as db:
             user = create_user(db, args.name, password, args.role)
@@ -80,17 +81,80 @@ def _user_add(args: argparse.Namespace) -> int:
     return 0
 
 
+def _trail_engine():
+    from .db import make_engine, migrate
+    from .services.trail import use_key
+
+    settings = _settings()
+    engine = make_engine(settings.database_url)
+    use_key(engine, settings.trail_key)
+    migrate(engine, settings.trail_key)
+    return engine
+
+
+def _read_anchor(path: str):
+    import json
+
+    from .services.trail import parse_anchor
+
+    try:
+        with open(path, encoding="utf-8") as handle:
+            document = json.load(handle)
+    except OSError as exc:
+        raise InputError([f"--anchor: cannot read {path} ({exc.strerror})"]) from None
+    except (UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise InputError([f"--anchor: {path} is not JSON ({exc})"]) from None
+    try:
+        return parse_anchor(document)
+    except ValueError as exc:
+        raise InputError([f"--anchor {path}: {exc}"]) from None
+
+
 def _trail_verify(args: argparse.Namespace) -> int:
-    from .db import make_engine, migrate, session_scope
+    from .db import session_scope
     from .services.trail import verify_all
 
-    engine = make_engine(_settings().database_url)
-    migrate(engine)
+    anchor = _read_anchor(args.anchor) if args.anchor else None
+    engine = _trail_engine()
     with session_scope(engine) as db:
-        check = verify_all(db)
+        check = verify_all(db, anchor=anchor)
     engine.dispose()
     print(check.summary)
     return 0 if check.ok else 1
+
+
+def _trail_anchor(args: argparse.Namespace) -> int:
+    """Write the head of an intact trail to a file; refuse (exit 1) when the trail is broken."""
+    import json
+
+    from .db import session_scope
+    from .services.trail import anchor_document, verify_all
+
+    engine = _trail_engine()
+    with session_scope(engine) as db:
+        check = verify_all(db)
+        document = anchor_document(db) if check.ok else None
+    engine.dispose()
+    if document is None:
+        print(check.summary)
+        print("no anchor written: anchor only an intact trail")
+        return 1
+    text = json.dumps(document, indent=2) + "\n"
+    if args.output == "-":
+        sys.stdout.write(text)
+    else:
+        try:
+            with open(args.output, "x" if not args.force else "w", encoding="utf-8") as handle:
+                handle.write(text)
+        except FileExistsError:
+            raise InputError(
+                [f"--output: {args.output} exists; choose another name or pass --force"]
+            ) from None
+        except OSError as exc:
+            raise InputError([f"--output: cannot write {args.output} ({exc.strerror})"]) from None
+        print(f"anchored entry {document['seq']} ({document['hash'][:12]}…) in {args.output}")
+        print("keep this file away from the server; check later with: clampdown trail verify --anchor FILE")
+    return 0
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -123,9 +187,20 @@ def register(sub: argparse._SubParsersAction) -> None:
     trail_sub = trail.add_subparsers(dest="trail_command", required=True)
     verify = trail_sub.add_parser(
         "verify",
-        help="check the hash chain and every revision's document; exit 1 naming the first failure",
+        help="check the hash chain, its key MACs and everything shown beside it; exit 1 naming the first failure",
+    )
+    verify.add_argument(
+        "--anchor",
+        metavar="FILE",
+        help="also check that the trail still holds the head written by `trail anchor`",
     )
     verify.set_defaults(run=_trail_verify)
+    anchor = trail_sub.add_parser(
+        "anchor", help="verify, then write the trail's head to a file to keep outside the database"
+    )
+    anchor.add_argument("output", help="the file to write ('-' for standard output)")
+    anchor.add_argument("--force", action="store_true", help="replace the file if it exists")
+    anchor.set_defaults(run=_trail_anchor)
 
 
 EXTRA_COMMANDS.append(register)

@@ -12,7 +12,8 @@ REPO_ROOT = Path(__file__).resolve().parents[2]
 
 
 class Settings(BaseSettings):
-    """CLAMPDOWN_DATA_DIR, CLAMPDOWN_DATABASE_URL, CLAMPDOWN_SECRET_KEY, CLAMPDOWN_SESSION_DAYS."""
+    """CLAMPDOWN_DATA_DIR, CLAMPDOWN_DATABASE_URL, CLAMPDOWN_SECRET_KEY, CLAMPDOWN_SESSION_DAYS,
+    CLAMPDOWN_TRAIL_KEY, CLAMPDOWN_CSV_IMPORT_MAX_BYTES, CLAMPDOWN_RECORD_CHECK_MAX_AGE."""
 
     model_config = SettingsConfigDict(env_prefix="CLAMPDOWN_", extra="ignore")
 
@@ -20,6 +21,15 @@ class Settings(BaseSettings):
     database_url: str = ""
     secret_key: str = ""
     session_days: int = 14
+    # The key of the trail's MACs: never in the database. From this variable, else the file
+    # trail_key in the data directory (made on first use, mode 0600). Keep a copy somewhere safe:
+    # without it `clampdown trail verify` reports every entry as unverifiable.
+    trail_key: str = ""
+    # A parts CSV larger than this is refused whole.
+    csv_import_max_bytes: int = 2_000_000
+    # The printed record re-verifies the trail when anything verified changed, and at least
+    # this often (seconds) in case the database's change counter was tampered with too.
+    record_check_max_age: float = 300.0
     # Only for the screenshot script and tests; never set in production.
     cookie_secure: bool = False
 
@@ -29,9 +39,12 @@ class Settings(BaseSettings):
         url = self.database_url or f"sqlite:///{data_dir / 'clampdown.sqlite3'}"
         url = normalise_database_url(url)
         key = self.secret_key or _kept_secret(data_dir)
+        trail_key = self.trail_key or _kept_secret(data_dir, "trail_key")
         if url.startswith("sqlite"):
             data_dir.mkdir(parents=True, exist_ok=True)
-        return self.model_copy(update={"data_dir": data_dir, "database_url": url, "secret_key": key})
+        return self.model_copy(
+            update={"data_dir": data_dir, "database_url": url, "secret_key": key, "trail_key": trail_key}
+        )
 
 
 def normalise_database_url(url: str) -> str:
@@ -42,9 +55,9 @@ def normalise_database_url(url: str) -> str:
     return url
 
 
-def _kept_secret(data_dir: Path) -> str:
-    """The secret key kept in the data directory, generated on first use."""
-    path = data_dir / "secret_key"
+def _kept_secret(data_dir: Path, name: str = "secret_key") -> str:
+    """A key kept in the data directory (``secret_key``, ``trail_key``), generated on first use."""
+    path = data_dir / name
     if path.exists():
         return path.read_text(encoding="utf-8").strip()
     data_dir.mkdir(parents=True, exist_ok=True)

@@ -43,11 +43,13 @@ def alembic_config(url: str) -> Config:
     return config
 
 
-def migrate(engine: Engine) -> None:
-    """Bring the database to the newest migration."""
+def migrate(engine: Engine, trail_key: str | None = None) -> None:
+    """Bring the database to the newest migration. ``trail_key`` lets the migration that added
+    the trail's key MACs seal entries stored before it (see migrations/versions/0003)."""
     config = alembic_config(str(engine.url.render_as_string(hide_password=False)))
     with engine.begin() as connection:
         config.attributes["connection"] = connection
+        config.attributes["trail_key"] = trail_key
         command.upgrade(config, "head")
 
 

@@ -90,14 +90,19 @@ def _review(db: Session, revision, person, action: dict) -> None:
         raise ValueError(f"seed_data/demo/reviews.json: unknown action {do!r}")
 
 
-def build_demo(database_url: str, fresh: bool = True) -> Engine:
-    """A fresh demo database (the SQLite file is replaced) with the seed scenario loaded."""
+def build_demo(database_url: str, fresh: bool = True, trail_key: str | None = None) -> Engine:
+    """A fresh demo database (the SQLite file is replaced) with the seed scenario loaded; its
+    trail is MACed with ``trail_key`` (default: the settings' key)."""
     if fresh and database_url.startswith("sqlite:///"):
         path = Path(database_url.removeprefix("sqlite:///"))
         for suffix in ("", "-wal", "-shm"):
             Path(str(path) + suffix).unlink(missing_ok=True)
     engine = make_engine(database_url)
-    migrate(engine)
+    if trail_key is not None:
+        from .services.trail import use_key
+
+        use_key(engine, trail_key)
+    migrate(engine, trail_key)
     with Session(engine, expire_on_commit=False) as db:
         if db.exec(select(User)).first() is None:
             load_seed(db)

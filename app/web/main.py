@@ -73,6 +73,10 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
     app.state.signer = SessionSigner(settings.secret_key, settings.session_days * 86400)
     app.state.templates = make_templates()
     app.state.fragments = FragmentCache()  # revision page bodies and the home overview
+    app.state.trail_checks = {}  # the printed record's verification (services/trail.cached_verification)
+    from .services.trail import use_key
+
+    use_key(app.state.engine, settings.trail_key)
     app.add_middleware(SessionCookie, signer=app.state.signer, secure=settings.cookie_secure)
     app.mount("/static", StaticFiles(directory=str(REPO_ROOT / "static")), name="static")
 

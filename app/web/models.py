@@ -131,6 +131,9 @@ class TrailEntry(SQLModel, table=True):
     detail: str = Field(sa_type=Text)
     prev_hash: str = Field(max_length=64)
     hash: str = Field(max_length=64)
+    # HMAC-SHA256 of ``hash`` under the trail key, which is never stored in the database
+    # (app.signoff.chain.entry_mac). Not part of the hash: it vouches for it.
+    mac: str | None = Field(default=None, max_length=64)
 
 
 class TrailHead(SQLModel, table=True):
@@ -141,6 +144,19 @@ class TrailHead(SQLModel, table=True):
     id: int = Field(primary_key=True, sa_column_kwargs={"autoincrement": False})
     seq: int
     hash: str = Field(max_length=64)
+    mac: str | None = Field(default=None, max_length=64)  # chain.head_mac under the trail key
+
+
+class DataVersion(SQLModel, table=True):
+    """A counter that database triggers bump on every change to what the trail verification
+    reads (revisions, users, reports, channels, fixtures, trail entries), however the change is
+    made. On SQLite the triggers bump this row; on PostgreSQL they take a value from the
+    sequence data_version_seq instead (no row lock shared by every writer). It keys the cached
+    verification the printed record shows (services/trail.cached_verification)."""
+
+    __tablename__ = "data_version"
+    id: int = Field(primary_key=True, sa_column_kwargs={"autoincrement": False})
+    n: int = 0
 
 
 class ImmutableRevisionError(RuntimeError):

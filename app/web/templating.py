@@ -64,9 +64,9 @@ def render(request: Request, template: str, /, status_code: int = 200, **context
 
 
 class FragmentCache:
-    """Rendered fragments of things that never change (a saved revision with its report for
-    this engine version; channel and fixture names have no edit route). Bounded; thread-safe
-    enough for dict get/set under the GIL."""
+    """Rendered fragments, each under a key that holds everything that can change it (the
+    database's data version, the engine version, the viewer's role where it matters). Bounded;
+    thread-safe enough for dict get/set under the GIL."""
 
     def __init__(self, size: int = 4096):
         self.size = size

@@ -67,7 +67,7 @@ def upgrade() -> None:
         sa.table("trail_head", sa.column("id", sa.Integer), sa.column("seq", sa.Integer), sa.column("hash")),
         [{"id": 1, "seq": 0, "hash": GENESIS}],
     )
-    create_guards(op.get_bind())
+    create_guards(op.get_bind(), version=1)
     # ### end Alembic commands ###
 
 

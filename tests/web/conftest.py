@@ -26,6 +26,7 @@ PG_URL = os.environ.get("CLAMPDOWN_TEST_DATABASE_URL")
 BACKENDS = ["sqlite"] + (["postgresql"] if PG_URL else [])
 TABLES = ("trail_entry", "revision_part", "report", "revision", "channel", "fixture", "part", "user_account")
 PASSWORD = demo.DEMO_PASSWORD
+TRAIL_KEY = "test-trail-key"
 
 # Real argon2, cheap parameters: the tests sign in hundreds of times.
 _fast = PasswordHasher(time_cost=1, memory_cost=1024, parallelism=1)
@@ -78,7 +79,10 @@ def _clean(engine) -> None:
 def app(engine, tmp_path):
     _clean(engine)
     settings = Settings(
-        data_dir=tmp_path, database_url=engine.url.render_as_string(False), secret_key="test-key"
+        data_dir=tmp_path,
+        database_url=engine.url.render_as_string(False),
+        secret_key="test-key",
+        trail_key=TRAIL_KEY,
     )
     return create_app(settings, engine=engine)
 

@@ -90,3 +90,35 @@ def test_api_sign_in_returns_a_fresh_token(world):
 
 def test_openapi_docs_are_served(reviewer):
     assert "/api/v1/evaluate" in reviewer.get("/api/v1/openapi.json").json()["paths"]
+
+
+def _timestamps(node, out):
+    if isinstance(node, dict):
+        for key, value in node.items():
+            if key in ("created_at", "updated_at"):
+                out.append(value)
+            else:
+                _timestamps(value, out)
+    elif isinstance(node, list):
+        for value in node:
+            _timestamps(value, out)
+    return out
+
+
+def test_every_api_timestamp_is_utc_with_its_offset(reviewer):
+    from datetime import datetime, timedelta
+
+    fixtures = reviewer.get("/api/v1/fixtures").json()
+    channel = fixtures[0]["channels"][0]
+    revision = channel["latest"]["id"]
+    found = []
+    for path in (
+        "/api/v1/parts",
+        "/api/v1/fixtures",
+        f"/api/v1/channels/{channel['id']}",
+        f"/api/v1/revisions/{revision}",
+    ):
+        _timestamps(reviewer.get(path).json(), found)
+    assert len(found) > 10
+    for value in found:
+        assert datetime.fromisoformat(value).utcoffset() == timedelta(0), value

@@ -59,3 +59,44 @@ def test_sqlite_runs_in_wal_mode(tmp_path):
     with engine.connect() as connection:
         assert connection.execute(text("PRAGMA journal_mode")).scalar() == "wal"
     engine.dispose()
+
+
+def _seeded_then_back_to_0002(url: str, key: str):
+    from alembic import command
+    from sqlmodel import Session
+
+    from app.web import demo
+    from app.web.services import trail
+
+    engine = make_engine(url)
+    trail.use_key(engine, key)
+    migrate(engine, key)
+    with Session(engine, expire_on_commit=False) as db:
+        demo.load_seed(db)
+    config = alembic_config(url)
+    with engine.begin() as connection:
+        config.attributes["connection"] = connection
+        command.downgrade(config, "0002")
+    return engine
+
+
+@pytest.mark.parametrize("with_key", [True, False])
+def test_upgrading_a_trail_made_before_macs_seals_it_with_the_key_given(empty_database, with_key):
+    """A database whose trail predates the key MACs: the migration seals it when given the key;
+    without one, verification names the first entry that has no MAC."""
+    from sqlmodel import Session
+
+    from app.web.services import trail
+
+    engine = _seeded_then_back_to_0002(empty_database, "seal-key")
+    with engine.connect() as connection:
+        columns = {c["name"] for c in inspect(connection).get_columns("trail_entry")}
+    assert "mac" not in columns
+    migrate(engine, "seal-key" if with_key else None)
+    with Session(engine) as db:
+        check = trail.verify_all(db, key=b"seal-key")
+    engine.dispose()
+    if with_key:
+        assert check.ok, check.summary
+    else:
+        assert not check.ok and "entry 1: has no key MAC" in check.summary

@@ -80,3 +80,84 @@ def test_parts_search_swaps_only_the_table_for_htmx(designer):
 def test_edit_form_keeps_values_as_entered(designer, world):
     pid = part_id(world, "transistor", "Demo NPN-40 small-signal (illustrative)")
     assert 'value="200 mA"' in designer.get(f"/parts/{pid}/edit").text
+
+
+DIODE_HEADER = "name,vrrm,if_avg,i_peak,vf,vf_at\n"
+
+
+def test_an_over_size_csv_is_refused_whole_with_the_limit_named(designer, world):
+    world.state.settings = world.state.settings.model_copy(update={"csv_import_max_bytes": 300})
+    rows = "".join(f"Demo import {n},100,1,30,1,1\n" for n in range(20))
+    text = DIODE_HEADER + rows  # about 600 bytes: cut at 300 the last row would be partial
+    assert len(text.encode()) > 300
+    response = designer.post("/parts/import", data={"kind": "diode"}, files={"file": ("d.csv", text)})
+    assert response.status_code == 413
+    assert "larger than the limit of 300 bytes" in response.text and "nothing was imported" in response.text
+    assert designer.get("/api/v1/parts", params={"q": "demo import"}).json() == []
+    # At the limit it is read whole.
+    small = DIODE_HEADER + rows.splitlines(keepends=True)[0]
+    assert (
+        designer.post("/parts/import", data={"kind": "diode"}, files={"file": ("d.csv", small)}).status_code
+        == 200
+    )
+
+
+def test_a_short_or_long_row_is_refused_never_stored_cut(designer):
+    text = DIODE_HEADER + "Whole one,100,1,30,1,1\nCut one,100,1\n"
+    response = designer.post("/parts/import", data={"kind": "diode"}, files={"file": ("d.csv", text)})
+    assert (
+        response.status_code == 422 and "row 3: has 3 fields; the first row names 6 columns" in response.text
+    )
+    text = DIODE_HEADER + "Long one,100,1,30,1,1,extra\n"
+    response = designer.post("/parts/import", data={"kind": "diode"}, files={"file": ("d.csv", text)})
+    assert response.status_code == 422 and "row 2: has 7 fields" in response.text
+    assert designer.get("/api/v1/parts", params={"q": " one"}).json() == []
+
+
+def test_a_field_over_the_csv_readers_limit_is_refused_by_row(designer):
+    import csv
+
+    limit = csv.field_size_limit()
+    text = DIODE_HEADER + "Fine,100,1,30,1,1\n" + "Huge," + "9" * (limit + 10) + ",1,30,1,1\n"
+    response = designer.post("/parts/import", data={"kind": "diode"}, files={"file": ("d.csv", text)})
+    assert response.status_code == 422
+    assert f"row 3: cannot be read as CSV: a field is longer than {limit:,} characters" in response.text
+    assert designer.get("/api/v1/parts", params={"q": "fine"}).json() == []
+
+
+FORMULAS = ['=HYPERLINK("http://example.invalid","open")', "+1+2", "-2+3+cmd", "@SUM(A1)", "'quoted already"]
+
+
+def test_csv_export_neutralises_formulas_and_imports_them_back(designer):
+    """OWASP, "CSV Injection": a cell starting with = + - @ (or tab, CR) is prefixed with an
+    apostrophe so spreadsheets show it as text; import strips exactly that apostrophe."""
+    made = []
+    for text in FORMULAS:
+        response = designer.post(
+            "/api/v1/parts",
+            json={
+                "kind": "diode",
+                "name": text,
+                "notes": text,
+                "params": {"vrrm": 100, "if_avg": 1, "i_peak": 30, "vf": 1, "vf_at": 1},
+            },
+        )
+        assert response.status_code == 201, response.text
+        made.append(response.json())
+    exported = designer.get("/parts/export.csv?kind=diode").text
+    import csv
+    import io
+
+    cells = [cell for row in csv.reader(io.StringIO(exported)) for cell in row]
+    for text in FORMULAS:
+        assert "'" + text in cells and text not in cells
+    assert not [
+        c for c in cells if c[:1] in ("=", "+", "-", "@") and not c.lstrip("+-").replace(".", "").isdigit()
+    ]
+    response = designer.post("/parts/import", data={"kind": "diode"}, files={"file": ("d.csv", exported)})
+    assert response.status_code == 200, response.text
+    after = {p["name"]: p for p in designer.get("/api/v1/parts?kind=diode").json()}
+    for part in made:
+        assert (
+            after[part["name"]]["notes"] == part["notes"] and after[part["name"]]["params"] == part["params"]
+        )

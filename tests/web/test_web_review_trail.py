@@ -10,11 +10,12 @@ from app.cli import main
 from app.web.config import get_settings
 from app.web.trail_guard import create_guards, drop_guards
 
-from .conftest import K1
+from .conftest import K1, TRAIL_KEY
 
 
 def _verify(world, monkeypatch, capsys) -> tuple[int, str]:
     monkeypatch.setenv("CLAMPDOWN_DATABASE_URL", world.state.engine.url.render_as_string(False))
+    monkeypatch.setenv("CLAMPDOWN_TRAIL_KEY", TRAIL_KEY)
     get_settings.cache_clear()
     try:
         code = main(["trail", "verify"])

@@ -3,11 +3,11 @@ detail lists each problem with its field path (loc) and what is allowed (msg).""
 
 from __future__ import annotations
 
-from datetime import datetime
+from datetime import UTC, datetime
 from typing import Annotated, Any
 
 from fastapi import APIRouter, Body, Request
-from pydantic import BaseModel, Field
+from pydantic import AfterValidator, BaseModel, Field
 
 from app.engine import ENGINE_VERSION
 
@@ -18,6 +18,15 @@ from ..services.reports import evaluate_document
 from ..services.revisions import validate_document
 
 router = APIRouter(tags=["api"])
+
+
+def _utc(value: datetime) -> datetime:
+    """Every timestamp the API gives is UTC with its offset. SQLite hands back naive values of
+    what was stored as UTC; PostgreSQL hands back aware ones, in the session's zone."""
+    return value.replace(tzinfo=UTC) if value.tzinfo is None else value.astimezone(UTC)
+
+
+UtcDatetime = Annotated[datetime, AfterValidator(_utc)]
 
 
 # ---------------------------------------------------------------- session
@@ -79,7 +88,7 @@ class PartOut(BaseModel):
     params: dict[str, Any]
     notes: str
     archived: bool
-    updated_at: datetime
+    updated_at: UtcDatetime
 
 
 def _part(p) -> PartOut:
@@ -131,7 +140,7 @@ class ChannelIn(BaseModel):
 class RevisionSummary(BaseModel):
     id: int
     label: str
-    created_at: datetime
+    created_at: UtcDatetime
     author: str
     change_note: str
     content_hash: str
@@ -228,7 +237,7 @@ class RevisionOut(BaseModel):
     id: int
     channel_id: int
     label: str
-    created_at: datetime
+    created_at: UtcDatetime
     author: str
     change_note: str
     source: str

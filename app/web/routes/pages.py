@@ -16,7 +16,7 @@ router = APIRouter(include_in_schema=False)
 
 def _overview_html(request: Request, db) -> Markup:
     """The fixtures list, rendered once per overview version (see fixtures.overview_version)."""
-    key = ("home", fixtures.overview_version(db))
+    key = ("home", *fixtures.overview_version(db))
     html = request.app.state.fragments.get(key)
     if html is None:
         template = request.app.state.templates.get_template("partials/_overview.html")

@@ -114,21 +114,30 @@ async def import_parts(request: Request, db: DB, user: Designer):
     upload = form.get("file")
     problems: list[str] = []
     imported = None
+    status = 422
+    limit = request.app.state.settings.csv_import_max_bytes
     if upload is None or isinstance(upload, str) or not upload.filename:
         problems.append("file: choose a CSV file whose first row names the columns")
     else:
-        try:
-            text = (await upload.read(2_000_001)).decode("utf-8-sig")
-            imported = parts.import_csv(db, kind, text)
-        except UnicodeDecodeError:
-            problems.append("file: not UTF-8 text")
-        except InputProblems as exc:
-            problems += [f"{p}: {m}" for p, m in exc.problems]
+        raw = await upload.read(limit + 1)
+        if len(raw) > limit:  # refused whole: a file cut at the limit would store a cut last row
+            status = 413
+            problems.append(
+                f"file: larger than the limit of {limit:,} bytes (CLAMPDOWN_CSV_IMPORT_MAX_BYTES); "
+                "nothing was imported; split the file"
+            )
+        else:
+            try:
+                imported = parts.import_csv(db, kind, raw.decode("utf-8-sig"))
+            except UnicodeDecodeError:
+                problems.append("file: not UTF-8 text")
+            except InputProblems as exc:
+                problems += [f"{p}: {m}" for p, m in exc.problems]
     found = parts.search_parts(db, kind)
     return render(
         request,
         "parts.html",
-        status_code=422 if problems else 200,
+        status_code=status if problems else 200,
         parts=found,
         kind=kind,
         q="",

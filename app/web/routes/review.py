@@ -98,12 +98,19 @@ def compare_page(
 
 @router.get("/revisions/{revision_id}/record")
 def record_page(request: Request, db: DB, user: Viewer, revision_id: int):
-    return render(request, "record.html", **record.record_context(db, revision_id), pdf=False)
+    return render(request, "record.html", **_record(request, db, revision_id), pdf=False)
+
+
+def _record(request: Request, db, revision_id: int, bounded: bool = False) -> dict:
+    state = request.app.state
+    return record.record_context(
+        db, revision_id, state.trail_checks, state.settings.record_check_max_age, bounded=bounded
+    )
 
 
 @router.get("/revisions/{revision_id}/record.pdf")
 def record_pdf(request: Request, db: DB, user: Viewer, revision_id: int):
-    context = record.record_context(db, revision_id)
+    context = _record(request, db, revision_id, bounded=True)
     html = request.app.state.templates.get_template("record.html").render(**context, pdf=True)
     pdf = record.render_pdf(html, base_url=str(request.base_url))
     if pdf is None:

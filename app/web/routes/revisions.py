@@ -8,7 +8,7 @@ from fastapi import APIRouter, Request
 from fastapi.responses import RedirectResponse, Response
 from markupsafe import Markup
 
-from app.engine import DesignError
+from app.engine import ENGINE_VERSION, DesignError
 
 from ..deps import DB, Designer, Viewer
 from ..services import fixtures, record, revision_form, revisions, trail
@@ -23,10 +23,11 @@ router = APIRouter(include_in_schema=False)
 
 @router.get("/revisions/{revision_id}")
 async def revision_page(request: Request, db: DB, user: Viewer, revision_id: int):
-    # The report never changes for a content hash; state, comments and waivers change with the
-    # trail, so the revision's newest trail entry is part of the key (one indexed lookup).
+    # The body shows the revision, its report, its trail, its author and the revision to compare
+    # with (which depends on other revisions): the data version changes with any of them, the
+    # engine version with the report; the role decides the edit link.
     can_edit = user.role in ("designer", "admin")
-    key = (revision_id, can_edit, trail.last_seq_for(db, revision_id))
+    key = ("revision", revision_id, can_edit, trail.data_version(db), ENGINE_VERSION)
     cached = request.app.state.fragments.get(key)
     if cached is None:
         context = record.page_context(db, revision_id, user)

@@ -143,11 +143,12 @@ def overview(db: Session, fixture_id: int | None = None) -> list[tuple[Fixture, 
 
 
 def overview_version(db: Session) -> tuple:
-    """Changes whenever the overview could: fixtures, channels and revisions are only ever added
-    (none is edited or deleted, and a revision's report depends only on its content), so the
-    newest id of each is enough. One query, three index lookups."""
-    newest = [select(func.max(table.id)).scalar_subquery() for table in (Fixture, Channel, Revision)]
-    return tuple(db.exec(select(*newest)).one())
+    """Changes whenever the overview could: the data version (bumped by database triggers on
+    every change to fixtures, channels, revisions, reports and accounts, however it is made; a
+    replaced draft changes its revision's report) and the engine version. One cheap query."""
+    from .trail import data_version
+
+    return (data_version(db), ENGINE_VERSION)
 
 
 def history(db: Session, channel_id: int) -> list[RevisionStatus]:

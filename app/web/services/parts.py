@@ -12,7 +12,7 @@ from sqlmodel import Session, select
 from app.engine.design import Coil, DesignError, Diode, Transistor, Tvs, Zener, parse_part
 
 from ..models import PART_KINDS, Part, RevisionPart, utcnow
-from .documents import typed_value
+from .documents import _NUMBER, typed_value
 from .errors import InputProblems, check_text, get_or_not_found, split_problem
 
 PART_MODELS = {"transistor": Transistor, "diode": Diode, "zener": Zener, "tvs": Tvs, "coil": Coil}
@@ -167,37 +167,87 @@ def search_parts(
 
 # ---------------------------------------------------------------- CSV
 
+# Spreadsheets run a cell that starts with one of these as a formula (OWASP, "CSV Injection").
+# Export prefixes such a cell with an apostrophe, and also a cell that already starts with one,
+# so that import can strip exactly one leading apostrophe and read back what was stored. Plain
+# numbers ("-40", "+1.5e3") stay as they are: as formulas they only evaluate to themselves.
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+ESCAPE = "'"
+
+
+def neutralise_cell(value) -> str:
+    text = "" if value is None else str(value)
+    if text.startswith(ESCAPE) or (text.startswith(FORMULA_STARTS) and not _NUMBER.fullmatch(text)):
+        return ESCAPE + text
+    return text
+
+
+def restore_cell(text: str | None) -> str | None:
+    """The inverse of neutralise_cell for a cell read from an exported file."""
+    if text is not None and text.startswith(ESCAPE):
+        return text[1:]
+    return text
+
 
 def export_csv(db: Session, kind: str) -> str:
-    """One row per part of the kind; columns: name, notes, then the parameter names."""
+    """One row per part of the kind; columns: name, notes, then the parameter names. Cells that
+    a spreadsheet would run as formulas are neutralised (see neutralise_cell)."""
     _check_kind(kind)
     columns = ["name", "notes"] + [name for name, _ in param_fields(kind)]
     out = io.StringIO()
     writer = csv.DictWriter(out, fieldnames=columns, lineterminator="\n")
     writer.writeheader()
     for part in search_parts(db, kind, include_archived=True, limit=100000):
-        writer.writerow(
-            {"name": part.name, "notes": part.notes, **{k: part.params.get(k, "") for k in columns[2:]}}
-        )
+        row = {"name": part.name, "notes": part.notes, **{k: part.params.get(k, "") for k in columns[2:]}}
+        writer.writerow({k: neutralise_cell(v) for k, v in row.items()})
     return out.getvalue()
 
 
+def _rows(text: str):
+    """(line number, fields) of each record; InputProblems naming the row for what the CSV
+    reader refuses (a field over its length limit, a NUL character, a broken quote)."""
+    reader = csv.reader(io.StringIO(text, newline=""))
+    while True:
+        try:
+            fields = next(reader)
+        except StopIteration:
+            return
+        except csv.Error as exc:
+            row = reader.line_num
+            message = str(exc)
+            if "field larger than field limit" in message:
+                message = f"a field is longer than {csv.field_size_limit():,} characters, the most a CSV field may hold here"
+            raise InputProblems([(f"row {row}", f"cannot be read as CSV: {message}")]) from None
+        yield reader.line_num, fields
+
+
 def import_csv(db: Session, kind: str, text: str) -> dict[str, int]:
-    """Create new parts and update same-named ones, all or nothing: one bad row stores none."""
+    """Create new parts and update same-named ones, all or nothing: one bad row stores none.
+    A row with more or fewer fields than the header names is refused (a cut row never stores)."""
     _check_kind(kind)
-    reader = csv.DictReader(io.StringIO(text))
+    rows_read = _rows(text)
+    header = next(rows_read, None)
     allowed = {"name", "notes"} | {name for name, _ in param_fields(kind)}
-    if not reader.fieldnames or "name" not in reader.fieldnames:
+    fieldnames = [name.strip() for name in header[1]] if header else []
+    if not fieldnames or "name" not in fieldnames:
         raise InputProblems([("file", "the first row must name the columns, including name")])
-    unknown = [c for c in reader.fieldnames if c not in allowed]
+    unknown = [c for c in fieldnames if c not in allowed]
     if unknown:
         raise InputProblems(
             [("file", f"unknown columns {', '.join(unknown)}; allowed: {', '.join(sorted(allowed))}")]
         )
     rows, problems, seen = [], [], set()
-    for number, row in enumerate(reader, start=2):
+    for number, fields in rows_read:
+        if not fields:
+            continue  # a blank line
+        if len(fields) != len(fieldnames):
+            problems.append(
+                (f"row {number}", f"has {len(fields)} fields; the first row names {len(fieldnames)} columns")
+            )
+            continue
+        row = {k: restore_cell(v) for k, v in zip(fieldnames, fields, strict=True)}
         name = (row.get("name") or "").strip()
-        params = {k: v for k, v in row.items() if k not in ("name", "notes") and k is not None}
+        params = {k: v for k, v in row.items() if k not in ("name", "notes")}
         try:
             kept = validate_part(kind, name, params)
             check_text("notes", row.get("notes"), 5000)

@@ -57,10 +57,46 @@ def page_context(db: Session, revision_id: int, user: User) -> dict:
     return context
 
 
-def record_context(db: Session, revision_id: int) -> dict:
+# What a PDF prints at most; the rest is counted on it (the review page has everything).
+PRINT_LIMIT_ENTRIES = 300
+PRINT_LIMIT_COMMENTS = 200
+
+
+def _bounded(context: dict) -> None:
+    """Cap the trail rows and comments a PDF renders, and count what is left out."""
+    state = context["review"]
+    omitted = {"entries": max(0, len(state.entries) - PRINT_LIMIT_ENTRIES), "comments": 0}
+    state.entries = state.entries[-PRINT_LIMIT_ENTRIES:] if omitted["entries"] else state.entries
+    budget = PRINT_LIMIT_COMMENTS
+    kept_general = state.comments[:budget]
+    omitted["comments"] += len(state.comments) - len(kept_general)
+    state.comments = kept_general
+    budget -= len(kept_general)
+    for rule, items in list(state.finding_comments.items()):
+        kept = items[: max(budget, 0)]
+        omitted["comments"] += len(items) - len(kept)
+        state.finding_comments[rule] = kept
+        budget -= len(kept)
+    context["omitted"] = omitted
+
+
+def record_context(
+    db: Session, revision_id: int, checks: dict | None = None, max_age: float = 300.0, bounded: bool = False
+) -> dict:
+    """The printed record. ``checks`` keeps the trail verification between views (see
+    trail.cached_verification); ``bounded`` caps what a PDF renders."""
     context = _base(db, revision_id, None)
-    context["check"] = trail.verify_all(db)
+    if checks is None:
+        context["check"] = trail.verify_all(db)
+    else:
+        context["check"] = trail.cached_verification(db, checks, max_age)
     context["labels"] = review.ACTION_LABELS
+    saves = [e for e in context["review"].entries if e.action == review.SAVE]
+    # The author as the trail records it (verification says so if the account disagrees).
+    context["author_name"] = saves[0].user_name if saves else context["view"].author.name
+    context["omitted"] = {"entries": 0, "comments": 0}
+    if bounded:
+        _bounded(context)
     return context
 
 
