@@ -3,14 +3,17 @@
 from __future__ import annotations
 
 from datetime import datetime
+from urllib.parse import urlencode
 
 from fastapi import Request
+from fastapi.responses import RedirectResponse
 from fastapi.templating import Jinja2Templates
 from jinja2 import Environment, FileSystemLoader
 
 from app.engine import ENGINE_VERSION
 from app.engine.rules import RULES
 from app.engine.units import format_si
+from app.signoff.workflow import STATE_LABELS
 
 from .config import REPO_ROOT
 
@@ -51,14 +54,39 @@ def make_templates() -> Jinja2Templates:
         lstrip_blocks=True,
     )
     env.filters.update(si=si, when=when)
-    env.globals.update(STATUS=STATUS, formula=formula, ENGINE_VERSION=ENGINE_VERSION)
+    from .services import findings_view
+    from .services.queues import age
+    from .services.review import TEXT_NAMES
+
+    env.globals.update(
+        STATUS=STATUS,
+        STATE_LABELS=STATE_LABELS,
+        formula=formula,
+        ENGINE_VERSION=ENGINE_VERSION,
+        age=age,
+        corner_words=findings_view.corner_words,
+        direction=findings_view.direction,
+        margin_text=findings_view.margin_text,
+        text_names=TEXT_NAMES,
+    )
     return Jinja2Templates(env=env)
+
+
+FLASH_PARAM = "done"
+
+
+def redirect_done(request: Request, url: str, message: str) -> RedirectResponse:
+    """303 to ``url``, whose page then says ``message`` (what the action just did)."""
+    token = request.app.state.signer.flash_dumps(message)
+    joiner = "&" if "?" in url else "?"
+    return RedirectResponse(f"{url}{joiner}{urlencode({FLASH_PARAM: token})}", status_code=303)
 
 
 def render(request: Request, template: str, /, status_code: int = 200, **context):
     """Render a page or partial with the signed-in user and the CSRF token in the context."""
     session = request.state.session
     context.setdefault("user", getattr(request.state, "user", None))
+    context.setdefault("flash", request.app.state.signer.flash_loads(request.query_params.get(FLASH_PARAM)))
     context["csrf_token"] = request.app.state.signer.csrf_token(session)
     return request.app.state.templates.TemplateResponse(request, template, context, status_code=status_code)
 

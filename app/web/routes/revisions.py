@@ -5,33 +5,37 @@ from __future__ import annotations
 import json
 
 from fastapi import APIRouter, Request
-from fastapi.responses import RedirectResponse, Response
+from fastapi.responses import Response
 from markupsafe import Markup
 
 from app.engine import DesignError
 
 from ..deps import DB, Designer, Viewer
-from ..services import fixtures, record, revision_form, revisions, trail
+from ..services import findings_view, fixtures, record, revision_form, revisions, trail
 from ..services.documents import canonical_json
 from ..services.errors import InputProblems
 from ..services.parts import search_parts
 from ..services.reports import evaluate_document
-from ..templating import render
+from ..templating import redirect_done, render
 
 router = APIRouter(include_in_schema=False)
 
 
 @router.get("/revisions/{revision_id}")
-async def revision_page(request: Request, db: DB, user: Viewer, revision_id: int):
+async def revision_page(request: Request, db: DB, user: Viewer, revision_id: int, sort: str = ""):
     # The report never changes for a content hash; state, comments and waivers change with the
-    # trail, so the revision's newest trail entry is part of the key (one indexed lookup).
+    # trail, so the revision's newest trail entry is part of the key (one indexed lookup). The
+    # actions offered (hand in, review) depend on who looks and carry the session's CSRF token,
+    # so the token is part of the key too; so is the findings' sort order.
     can_edit = user.role in ("designer", "admin")
-    key = (revision_id, can_edit, trail.last_seq_for(db, revision_id))
+    token = request.app.state.signer.csrf_token(request.state.session)
+    sort = findings_view.sort_key(sort)
+    key = (revision_id, token, sort, trail.last_seq_for(db, revision_id))
     cached = request.app.state.fragments.get(key)
     if cached is None:
-        context = record.page_context(db, revision_id, user)
+        context = record.page_context(db, revision_id, user, sort=sort)
         body = request.app.state.templates.get_template("partials/_revision_body.html").render(
-            **context, can_edit=can_edit
+            **context, can_edit=can_edit, user=user, csrf_token=token
         )
         cached = (f"{context['view'].channel.name} rev {context['view'].revision.label}", Markup(body))
         request.app.state.fragments.put(key, cached)
@@ -127,7 +131,11 @@ async def save_revision(request: Request, db: DB, user: Designer, channel_id: in
         report, _ = _preview(db, values)
         context = _form_context(db, channel_id, values, revision_form.problems_by_field(exc.problems))
         return render(request, "revision_new.html", status_code=422, latest=None, report=report, **context)
-    return RedirectResponse(f"/revisions/{revision.id}", status_code=303)
+    return redirect_done(request, f"/revisions/{revision.id}", _saved(revision))
+
+
+def _saved(revision) -> str:
+    return f"Rev {revision.label} saved as a draft. Hand it in when it is ready for review."
 
 
 MAX_UPLOAD = 1_000_000
@@ -154,7 +162,7 @@ async def upload_revision(request: Request, db: DB, user: Designer, channel_id: 
     if document is not None:
         try:
             revision = revisions.create_revision(db, channel_id, document, user, change_note, source="upload")
-            return RedirectResponse(f"/revisions/{revision.id}", status_code=303)
+            return redirect_done(request, f"/revisions/{revision.id}", _saved(revision))
         except InputProblems as exc:
             problems += [f"{p}: {m}" for p, m in exc.problems]
         except DesignError as exc:  # pragma: no cover - create_revision converts these
