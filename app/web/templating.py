@@ -9,6 +9,7 @@ from fastapi import Request
 from fastapi.responses import RedirectResponse
 from fastapi.templating import Jinja2Templates
 from jinja2 import Environment, FileSystemLoader
+from markupsafe import Markup
 
 from app.engine import ENGINE_VERSION
 from app.engine.rules import RULES
@@ -41,6 +42,18 @@ def when(value: datetime | None) -> str:
     return value.strftime("%Y-%m-%d %H:%M UTC") if value else "—"
 
 
+def css_string(text: str) -> Markup:
+    """A quoted CSS string for generated content (the record's page header and footer): every
+    character that could end the string or the style element is written as a CSS escape."""
+    out = []
+    for ch in str(text):
+        if ch.isalnum() or ch in " .,:;-_/()·—–★#+=%°Ω" or ord(ch) > 127 and ch.isprintable():
+            out.append(ch)
+        else:
+            out.append(f"\\{ord(ch):x} ")
+    return Markup('"' + "".join(out) + '"')
+
+
 def formula(rule_id: str) -> str:
     registered = RULES.get(rule_id)
     return registered.formula if registered else ""
@@ -53,8 +66,8 @@ def make_templates() -> Jinja2Templates:
         trim_blocks=True,
         lstrip_blocks=True,
     )
-    env.filters.update(si=si, when=when)
-    from .services import findings_view
+    env.filters.update(si=si, when=when, css_string=css_string)
+    from .services import findings_view, record
     from .services.queues import age
     from .services.review import TEXT_NAMES
 
@@ -64,6 +77,7 @@ def make_templates() -> Jinja2Templates:
         formula=formula,
         ENGINE_VERSION=ENGINE_VERSION,
         age=age,
+        pdf_available=record.pdf_available,
         corner_words=findings_view.corner_words,
         direction=findings_view.direction,
         margin_text=findings_view.margin_text,

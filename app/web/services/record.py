@@ -2,10 +2,12 @@
 
 from __future__ import annotations
 
+from functools import cache
+
 from sqlmodel import Session
 
 from ..models import Channel, Fixture, Revision, User
-from . import findings_view, review, revisions, trail
+from . import findings_view, labels, review, revisions, trail
 from .errors import InputProblems, NotFound
 
 CAUTION = (
@@ -53,6 +55,8 @@ def _base(db: Session, revision_id: int, user: User | None, sort: str = "") -> d
         "findings": findings_view.ordered(report["findings"], sort),
         "r_at": findings_view.coil_reference_temp(view.revision.document),
         "inputs": inputs(view.revision.document),
+        "labelled_inputs": labels.labelled_inputs(inputs(view.revision.document)),
+        "labelled_parts": labels.labelled_parts(revisions.frozen_parts(view.revision.document)),
         "caution": CAUTION,
     }
 
@@ -89,6 +93,17 @@ def compare_context(db: Session, channel_id: int, old_id: int | None, new_id: in
     channel = db.get(Channel, channel_id)
     fixture = db.get(Fixture, channel.fixture_id)
     return {"channel": channel, "fixture": fixture, "history": history, "cmp": comparison}
+
+
+@cache
+def pdf_available() -> bool:
+    """Whether this server can make the record's PDF (WeasyPrint and the Pango it needs import).
+    Pages offer the download only then; otherwise they offer the browser's print."""
+    try:
+        import weasyprint  # noqa: F401
+    except (ImportError, OSError):
+        return False
+    return True
 
 
 def render_pdf(html: str, base_url: str) -> bytes | None:
