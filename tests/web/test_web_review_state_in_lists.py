@@ -57,4 +57,4 @@ def test_compare_defaults_to_the_approved_baseline(world, reviewer):
     a, b, c = revision_ids(world, K1)
     page = reviewer.get(f"/channels/{channel_id(world, K1)}/compare").text
     assert "rev B → rev C" in page
-    assert f"compare with rev B (approved baseline)" in reviewer.get(f"/revisions/{c}/review").text
+    assert "compare with rev B (approved baseline)" in reviewer.get(f"/revisions/{c}/review").text
