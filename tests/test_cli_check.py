@@ -80,8 +80,13 @@ def test_json_report_contract(tmp_path):
             "rating",
             "corner",
             "message",
+            "bound",
         }
         assert finding["status"] in {"violation", "marginal", "ok", "note"}
+        # which side of the limit the value must stay: upper (≤) for stresses, lower (≥) for margins
+        assert finding["bound"] == (None if finding["status"] == "note" else finding["bound"])
+        if finding["status"] != "note" and finding["limit"] is not None:
+            assert finding["bound"] in {"upper", "lower"}
         assert finding["value"] is not None  # only an unclamped spike has no finite value
     for key in ("collector_current", "base_current", "overdrive", "coil_voltage", "junction_temp"):
         assert isinstance(report["nominal"][key], float)

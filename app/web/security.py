@@ -48,7 +48,24 @@ class SessionSigner:
     def __init__(self, secret_key: str, max_age_seconds: int):
         self._serializer = URLSafeTimedSerializer(secret_key, salt="clampdown-session")
         self._csrf_key = hashlib.sha256(("csrf:" + secret_key).encode()).digest()
+        self._flash = URLSafeTimedSerializer(secret_key, salt="clampdown-flash")
         self.max_age = max_age_seconds
+
+    # What an action did, carried by its redirect in a signed query parameter: nobody can make a
+    # page say "signed off" with a crafted link, and a bookmarked URL stops saying it.
+    FLASH_SECONDS = 300
+
+    def flash_dumps(self, message: str) -> str:
+        return self._flash.dumps(message)
+
+    def flash_loads(self, token: str | None) -> str | None:
+        if not token:
+            return None
+        try:
+            message = self._flash.loads(token, max_age=self.FLASH_SECONDS)
+        except BadSignature:
+            return None
+        return message if isinstance(message, str) else None
 
     def new(self, user_id: int | None = None) -> SessionData:
         return SessionData(nonce=secrets.token_urlsafe(24), user_id=user_id)

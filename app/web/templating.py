@@ -3,14 +3,18 @@
 from __future__ import annotations
 
 from datetime import datetime
+from urllib.parse import urlencode
 
 from fastapi import Request
+from fastapi.responses import RedirectResponse
 from fastapi.templating import Jinja2Templates
 from jinja2 import Environment, FileSystemLoader
+from markupsafe import Markup
 
 from app.engine import ENGINE_VERSION
 from app.engine.rules import RULES
 from app.engine.units import format_si
+from app.signoff.workflow import STATE_LABELS
 
 from .config import REPO_ROOT
 
@@ -38,6 +42,18 @@ def when(value: datetime | None) -> str:
     return value.strftime("%Y-%m-%d %H:%M UTC") if value else "—"
 
 
+def css_string(text: str) -> Markup:
+    """A quoted CSS string for generated content (the record's page header and footer): every
+    character that could end the string or the style element is written as a CSS escape."""
+    out = []
+    for ch in str(text):
+        if ch.isalnum() or ch in " .,:;-_/()·—–★#+=%°Ω" or ord(ch) > 127 and ch.isprintable():
+            out.append(ch)
+        else:
+            out.append(f"\\{ord(ch):x} ")
+    return Markup('"' + "".join(out) + '"')
+
+
 def formula(rule_id: str) -> str:
     registered = RULES.get(rule_id)
     return registered.formula if registered else ""
@@ -50,15 +66,41 @@ def make_templates() -> Jinja2Templates:
         trim_blocks=True,
         lstrip_blocks=True,
     )
-    env.filters.update(si=si, when=when)
-    env.globals.update(STATUS=STATUS, formula=formula, ENGINE_VERSION=ENGINE_VERSION)
+    env.filters.update(si=si, when=when, css_string=css_string)
+    from .services import findings_view, record
+    from .services.queues import age
+    from .services.review import TEXT_NAMES
+
+    env.globals.update(
+        STATUS=STATUS,
+        STATE_LABELS=STATE_LABELS,
+        formula=formula,
+        ENGINE_VERSION=ENGINE_VERSION,
+        age=age,
+        pdf_available=record.pdf_available,
+        corner_words=findings_view.corner_words,
+        direction=findings_view.direction,
+        margin_text=findings_view.margin_text,
+        text_names=TEXT_NAMES,
+    )
     return Jinja2Templates(env=env)
+
+
+FLASH_PARAM = "done"
+
+
+def redirect_done(request: Request, url: str, message: str) -> RedirectResponse:
+    """303 to ``url``, whose page then says ``message`` (what the action just did)."""
+    token = request.app.state.signer.flash_dumps(message)
+    joiner = "&" if "?" in url else "?"
+    return RedirectResponse(f"{url}{joiner}{urlencode({FLASH_PARAM: token})}", status_code=303)
 
 
 def render(request: Request, template: str, /, status_code: int = 200, **context):
     """Render a page or partial with the signed-in user and the CSRF token in the context."""
     session = request.state.session
     context.setdefault("user", getattr(request.state, "user", None))
+    context.setdefault("flash", request.app.state.signer.flash_loads(request.query_params.get(FLASH_PARAM)))
     context["csrf_token"] = request.app.state.signer.csrf_token(session)
     return request.app.state.templates.TemplateResponse(request, template, context, status_code=status_code)
 

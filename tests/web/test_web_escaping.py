@@ -18,7 +18,7 @@ def test_every_text_field_is_escaped_where_it_is_shown(designer, world):
     assert fixture.status_code == 303
     _assert_escaped(designer.get(fixture.headers["location"]).text)
     _assert_escaped(designer.get("/").text)
-    fid = fixture.headers["location"].rsplit("/", 1)[1]
+    fid = fixture.headers["location"].split("?")[0].rsplit("/", 1)[1]
     channel = designer.post(
         f"/fixtures/{fid}/channels", data={"name": PAYLOAD, "load": PAYLOAD, "mains_load": "on"}
     )

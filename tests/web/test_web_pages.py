@@ -39,7 +39,8 @@ def test_home_shows_a_new_revision_at_once(designer, world):
     assert designer.get("/").status_code == 200  # the overview is now rendered and kept
     values = {**form_values(world, K2), "base.r_series": "47k", "change_note": "oops"}
     assert designer.post(f"/channels/{channel_id(world, K2)}/revisions", data=values).status_code == 303
-    k2_row = designer.get("/").text.split(K2, 1)[1].split("</tr>")[0]
+    overview = designer.get("/").text.split("<h1>Fixtures</h1>", 1)[1]  # below the queues
+    k2_row = overview.split(K2, 1)[1].split("</tr>")[0]
     assert ">C</a>" in k2_row and "Exceeds rating" in k2_row
 
 

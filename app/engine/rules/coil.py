@@ -27,6 +27,7 @@ def pickup(ctx: Context) -> Finding:
         message=lambda i, s: (
             f"{_si(op.coil_voltage_hot[i], 'V')} on the coil at {op.coil_temp_hot[i]:.0f} °C, must-operate {_si(rating[i], 'V')} there"
         ),
+        hot_coil=True,
     )
 
 

@@ -36,6 +36,9 @@ class Finding:
     rating: float | None
     corner: dict[str, float]
     message: str
+    # "upper": the value must stay at or below the limit (a stress); "lower": at or above it (a
+    # margin); None for notes and findings with no limit.
+    bound: str | None = None
 
     def as_dict(self) -> dict:
         def num(x):
@@ -51,6 +54,7 @@ class Finding:
             "rating": num(self.rating),
             "corner": self.corner,
             "message": self.message,
+            "bound": self.bound,
         }
 
 
@@ -94,6 +98,20 @@ def _at(x: np.ndarray | float, index: int) -> float:
     return float(x[index]) if np.ndim(x) else float(x)
 
 
+def corner_used(ctx: Context, index: int, *, hot_coil: bool = False) -> dict[str, float]:
+    """The corner's parameters as varied (``r_coil`` is the coil's resistance at its reference
+    temperature ``r_at``), plus the coil as the rule used it there: ``coil_temp`` (°C) and
+    ``r_coil_used`` (Ω), at the corner's ambient, or self-heated for ``hot_coil`` rules."""
+    corner = ctx.corners.describe(index)
+    if hot_coil:
+        temp, resistance = ctx.op.coil_temp_hot, ctx.op.r_coil_hot
+    else:
+        temp, resistance = ctx.op.ambient, ctx.op.r_coil
+    corner["coil_temp"] = float(f"{_at(temp, index):.6g}")
+    corner["r_coil_used"] = float(f"{_at(resistance, index):.6g}")
+    return corner
+
+
 def judge(
     ctx: Context,
     rule_id: str,
@@ -104,12 +122,14 @@ def judge(
     *,
     keep_below: bool,
     message: Callable[[int, Status], str],
+    hot_coil: bool = False,
 ) -> Finding:
     """Pick the worst corner and its status.
 
     ``keep_below``: the value must stay at or below the limit (a stress); otherwise at or above
     it (a margin). Beyond the absolute rating is a violation, beyond the derated limit marginal.
     The worst corner is the one furthest past the rating if any is, else past the limit.
+    ``hot_coil``: the rule uses the self-heated coil (the corner then records that coil).
     """
     n = ctx.corners.size
     value = np.asarray(value, dtype=float)
@@ -143,15 +163,16 @@ def judge(
         unit=unit,
         limit=_at(limit, worst),
         rating=_at(rating, worst),
-        corner=ctx.corners.describe(worst),
+        corner=corner_used(ctx, worst, hot_coil=hot_coil),
         message=message(worst, status),
+        bound="upper" if keep_below else "lower",
     )
 
 
 def note(
     ctx: Context, rule_id: str, value: float | None, unit: str, message: str, index: int | None = None
 ) -> Finding:
-    corner = ctx.corners.describe(index) if index is not None else {}
+    corner = corner_used(ctx, index) if index is not None else {}
     return Finding(rule_id, RULES[rule_id].title, "note", value, unit, None, None, corner, message)
 
 

@@ -12,7 +12,7 @@ from pydantic import AfterValidator, BaseModel, Field
 from app.engine import ENGINE_VERSION
 
 from ..deps import DB, Designer, MaybeUser, Viewer
-from ..services import fixtures, parts, revisions, users
+from ..services import fixtures, parts, review, revisions, users
 from ..services.errors import InputProblems
 from ..services.reports import evaluate_document
 from ..services.revisions import validate_document
@@ -147,6 +147,9 @@ class RevisionSummary(BaseModel):
     verdict: str | None
     violations: int | None
     marginals: int | None
+    state: str = Field(description="review state: draft, in_review, returned, signed_off, superseded")
+    signed_off: bool = Field(description="signed off (a sign-off stays when the revision is superseded)")
+    approved_baseline: bool = Field(description="the channel's newest signed-off revision")
 
 
 class ChannelOut(BaseModel):
@@ -244,11 +247,15 @@ class RevisionOut(BaseModel):
     content_hash: str
     engine_version: str
     verdict: str
+    state: str = Field(description="review state: draft, in_review, returned, signed_off, superseded")
+    signed_off: bool = Field(description="signed off (a sign-off stays when the revision is superseded)")
+    approved_baseline: bool = Field(description="the channel's newest signed-off revision")
     document: dict[str, Any]
 
 
-def _revision(view) -> RevisionOut:
+def _revision(db, view) -> RevisionOut:
     r = view.revision
+    baseline = review.approved_baseline(db, r.channel_id)
     return RevisionOut(
         id=r.id,
         channel_id=r.channel_id,
@@ -260,6 +267,9 @@ def _revision(view) -> RevisionOut:
         content_hash=r.content_hash,
         engine_version=view.report.engine_version,
         verdict=view.report.verdict,
+        state=r.state,
+        signed_off=bool(review.signed_off_ids(db, [r.id])),
+        approved_baseline=baseline is not None and baseline.id == r.id,
         document=r.document,
     )
 
@@ -268,12 +278,12 @@ def _revision(view) -> RevisionOut:
 def create_revision(db: DB, user: Designer, channel_id: int, body: RevisionIn):
     """Store a design file as the channel's next revision (immutable from then on)."""
     revision = revisions.create_revision(db, channel_id, body.document, user, body.change_note, source="api")
-    return _revision(revisions.revision_view(db, revision.id))
+    return _revision(db, revisions.revision_view(db, revision.id))
 
 
 @router.get("/revisions/{revision_id}", response_model=RevisionOut)
 def get_revision(db: DB, user: Viewer, revision_id: int):
-    return _revision(revisions.revision_view(db, revision_id))
+    return _revision(db, revisions.revision_view(db, revision_id))
 
 
 @router.get("/revisions/{revision_id}/report")

@@ -3,13 +3,12 @@
 from __future__ import annotations
 
 from fastapi import APIRouter, Request
-from fastapi.responses import RedirectResponse
 from markupsafe import Markup
 
 from ..deps import DB, Designer, Viewer
-from ..services import fixtures
+from ..services import fixtures, queues
 from ..services.errors import InputProblems
-from ..templating import render
+from ..templating import redirect_done, render
 
 router = APIRouter(include_in_schema=False)
 
@@ -27,7 +26,14 @@ def _overview_html(request: Request, db) -> Markup:
 
 @router.get("/")
 def home(request: Request, db: DB, user: Viewer):
-    return render(request, "home.html", overview_html=_overview_html(request, db), errors={}, form={})
+    return render(
+        request,
+        "home.html",
+        queues=queues.queues_for(db, user),
+        overview_html=_overview_html(request, db),
+        errors={},
+        form={},
+    )
 
 
 @router.post("/fixtures")
@@ -45,7 +51,7 @@ async def create_fixture(request: Request, db: DB, user: Designer):
             errors=dict(exc.problems),
             form=values,
         )
-    return RedirectResponse(f"/fixtures/{fixture.id}", status_code=303)
+    return redirect_done(request, f"/fixtures/{fixture.id}", f"Fixture “{fixture.name}” added.")
 
 
 @router.get("/fixtures/{fixture_id}")
@@ -72,7 +78,7 @@ async def create_channel(request: Request, db: DB, user: Designer, fixture_id: i
             errors=dict(exc.problems),
             form=values,
         )
-    return RedirectResponse(f"/channels/{channel.id}", status_code=303)
+    return redirect_done(request, f"/channels/{channel.id}", f"Channel “{channel.name}” added.")
 
 
 @router.get("/channels/{channel_id}")

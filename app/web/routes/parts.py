@@ -11,7 +11,7 @@ from ..models import PART_KINDS
 from ..services import parts
 from ..services.documents import SLOT_KINDS
 from ..services.errors import InputProblems
-from ..templating import render
+from ..templating import redirect_done, render
 
 router = APIRouter(include_in_schema=False)
 
@@ -94,7 +94,7 @@ async def create_part(request: Request, db: DB, user: Designer):
         part = parts.create_part(db, kind, values["name"], _params(values), values["notes"])
     except InputProblems as exc:
         return _form(kind, values=values, errors=dict(exc.problems), status_code=422, request=request)
-    return RedirectResponse(f"/parts?kind={part.kind}", status_code=303)
+    return redirect_done(request, f"/parts?kind={part.kind}", f"Part “{part.name}” added to the library.")
 
 
 @router.get("/parts/export.csv")
@@ -161,12 +161,15 @@ async def update_part(request: Request, db: DB, user: Designer, part_id: int):
     part = parts.get_part(db, part_id)
     values = _values(await request.form(), part.kind)
     try:
-        parts.update_part(db, part_id, values["name"], _params(values), values["notes"])
+        saved = parts.update_part(db, part_id, values["name"], _params(values), values["notes"])
     except InputProblems as exc:
         return _form(
             part.kind, part=part, values=values, errors=dict(exc.problems), status_code=422, request=request
         )
-    return RedirectResponse(f"/parts?kind={part.kind}", status_code=303)
+    name = saved.name
+    return redirect_done(
+        request, f"/parts?kind={part.kind}", f"Part “{name}” saved; revisions keep the copies they froze."
+    )
 
 
 @router.post("/parts/{part_id}/remove")

@@ -15,13 +15,14 @@ from fastapi.responses import RedirectResponse, Response
 from ..deps import DB, Viewer
 from ..services import record, review
 from ..services.errors import InputProblems
-from ..templating import render
+from ..templating import redirect_done, render
 
 router = APIRouter(include_in_schema=False)
 
 
-def _back(revision_id: int) -> RedirectResponse:
-    return RedirectResponse(f"/revisions/{revision_id}/review", status_code=303)
+def _back(request: Request, db, entry) -> RedirectResponse:
+    """Back to the review page, which then says what the action did."""
+    return redirect_done(request, f"/revisions/{entry.revision_id}/review", review.done_message(db, entry))
 
 
 # The action routes are plain functions, so FastAPI runs them in its thread pool: a request
@@ -30,38 +31,40 @@ Text = Annotated[str, Form()]
 
 
 @router.get("/revisions/{revision_id}/review")
-def review_page(request: Request, db: DB, user: Viewer, revision_id: int):
-    return render(request, "review.html", **record.page_context(db, revision_id, user))
+def review_page(request: Request, db: DB, user: Viewer, revision_id: int, sort: str = ""):
+    return render(request, "review.html", **record.page_context(db, revision_id, user, sort=sort))
 
 
 @router.post("/revisions/{revision_id}/hand-in")
-def hand_in(db: DB, user: Viewer, revision_id: int, note: Text = ""):
-    review.hand_in(db, revision_id, user, note)
-    return _back(revision_id)
+def hand_in(request: Request, db: DB, user: Viewer, revision_id: int, note: Text = ""):
+    entry = review.hand_in(db, revision_id, user, note)
+    return _back(request, db, entry)
 
 
 @router.post("/revisions/{revision_id}/comments")
-def comment(db: DB, user: Viewer, revision_id: int, text: Text = "", finding: Text = ""):
-    review.comment(db, revision_id, user, text, finding)
-    return _back(revision_id)
+def comment(request: Request, db: DB, user: Viewer, revision_id: int, text: Text = "", finding: Text = ""):
+    entry = review.comment(db, revision_id, user, text, finding)
+    return _back(request, db, entry)
 
 
 @router.post("/revisions/{revision_id}/waivers")
-def waive(db: DB, user: Viewer, revision_id: int, finding: Text = "", justification: Text = ""):
-    review.waive(db, revision_id, user, finding, justification)
-    return _back(revision_id)
+def waive(
+    request: Request, db: DB, user: Viewer, revision_id: int, finding: Text = "", justification: Text = ""
+):
+    entry = review.waive(db, revision_id, user, finding, justification)
+    return _back(request, db, entry)
 
 
 @router.post("/revisions/{revision_id}/send-back")
-def send_back(db: DB, user: Viewer, revision_id: int, note: Text = ""):
-    review.send_back(db, revision_id, user, note)
-    return _back(revision_id)
+def send_back(request: Request, db: DB, user: Viewer, revision_id: int, note: Text = ""):
+    entry = review.send_back(db, revision_id, user, note)
+    return _back(request, db, entry)
 
 
 @router.post("/revisions/{revision_id}/sign-off")
-def sign_off(db: DB, user: Viewer, revision_id: int, note: Text = ""):
-    review.sign_off(db, revision_id, user, note)
-    return _back(revision_id)
+def sign_off(request: Request, db: DB, user: Viewer, revision_id: int, note: Text = ""):
+    entry = review.sign_off(db, revision_id, user, note)
+    return _back(request, db, entry)
 
 
 MAX_UPLOAD = 1_000_000
@@ -69,6 +72,7 @@ MAX_UPLOAD = 1_000_000
 
 @router.post("/revisions/{revision_id}/replace")
 def replace(
+    request: Request,
     db: DB,
     user: Viewer,
     revision_id: int,
@@ -85,8 +89,8 @@ def replace(
         document = json.loads(raw.decode("utf-8"))
     except (UnicodeDecodeError, json.JSONDecodeError) as exc:
         raise InputProblems([("file", f"not JSON ({exc})")]) from None
-    review.replace_draft(db, revision_id, user, document, change_note)
-    return _back(revision_id)
+    entry = review.replace_draft(db, revision_id, user, document, change_note)
+    return _back(request, db, entry)
 
 
 @router.get("/channels/{channel_id}/compare")

@@ -5,34 +5,37 @@ from __future__ import annotations
 import json
 
 from fastapi import APIRouter, Request
-from fastapi.responses import RedirectResponse, Response
+from fastapi.responses import Response
 from markupsafe import Markup
 
 from app.engine import ENGINE_VERSION, DesignError
 
 from ..deps import DB, Designer, Viewer
-from ..services import fixtures, record, revision_form, revisions, trail
+from ..services import findings_view, fixtures, record, revision_form, revisions, trail
 from ..services.documents import canonical_json
 from ..services.errors import InputProblems
 from ..services.parts import search_parts
 from ..services.reports import evaluate_document
-from ..templating import render
+from ..templating import redirect_done, render
 
 router = APIRouter(include_in_schema=False)
 
 
 @router.get("/revisions/{revision_id}")
-async def revision_page(request: Request, db: DB, user: Viewer, revision_id: int):
+async def revision_page(request: Request, db: DB, user: Viewer, revision_id: int, sort: str = ""):
     # The body shows the revision, its report, its trail, its author and the revision to compare
     # with (which depends on other revisions): the data version changes with any of them, the
-    # engine version with the report; the role decides the edit link.
+    # engine version with the report. The actions offered depend on who looks and carry the
+    # session's CSRF token, so the role and the token are part of the key; so is the sort order.
     can_edit = user.role in ("designer", "admin")
-    key = ("revision", revision_id, can_edit, trail.data_version(db), ENGINE_VERSION)
+    token = request.app.state.signer.csrf_token(request.state.session)
+    sort = findings_view.sort_key(sort)
+    key = ("revision", revision_id, can_edit, user.id, token, sort, trail.data_version(db), ENGINE_VERSION)
     cached = request.app.state.fragments.get(key)
     if cached is None:
-        context = record.page_context(db, revision_id, user)
+        context = record.page_context(db, revision_id, user, sort=sort)
         body = request.app.state.templates.get_template("partials/_revision_body.html").render(
-            **context, can_edit=can_edit
+            **context, can_edit=can_edit, user=user, csrf_token=token
         )
         cached = (f"{context['view'].channel.name} rev {context['view'].revision.label}", Markup(body))
         request.app.state.fragments.put(key, cached)
@@ -128,7 +131,11 @@ async def save_revision(request: Request, db: DB, user: Designer, channel_id: in
         report, _ = _preview(db, values)
         context = _form_context(db, channel_id, values, revision_form.problems_by_field(exc.problems))
         return render(request, "revision_new.html", status_code=422, latest=None, report=report, **context)
-    return RedirectResponse(f"/revisions/{revision.id}", status_code=303)
+    return redirect_done(request, f"/revisions/{revision.id}", _saved(revision))
+
+
+def _saved(revision) -> str:
+    return f"Rev {revision.label} saved as a draft. Hand it in when it is ready for review."
 
 
 MAX_UPLOAD = 1_000_000
@@ -155,7 +162,7 @@ async def upload_revision(request: Request, db: DB, user: Designer, channel_id: 
     if document is not None:
         try:
             revision = revisions.create_revision(db, channel_id, document, user, change_note, source="upload")
-            return RedirectResponse(f"/revisions/{revision.id}", status_code=303)
+            return redirect_done(request, f"/revisions/{revision.id}", _saved(revision))
         except InputProblems as exc:
             problems += [f"{p}: {m}" for p, m in exc.problems]
         except DesignError as exc:  # pragma: no cover - create_revision converts these

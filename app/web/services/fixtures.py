@@ -5,12 +5,13 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import datetime
 
-from sqlalchemy import and_, func
+from sqlalchemy import and_, exists, func
+from sqlalchemy.orm import aliased
 from sqlmodel import Session, select
 
 from app.engine import ENGINE_VERSION
 
-from ..models import Channel, Fixture, Report, Revision, User
+from ..models import Channel, Fixture, Report, Revision, TrailEntry, User
 from .errors import InputProblems, check_text, get_or_not_found
 from .reports import cached_report
 
@@ -73,12 +74,16 @@ class RevisionStatus:
     verdict: str | None
     violations: int | None
     marginals: int | None
+    state: str = "draft"
+    signed_off: bool = False  # a sign-off stays on its revision after it is superseded
+    approved_baseline: bool = False  # the channel's newest signed-off revision
 
 
 @dataclass
 class ChannelStatus:
     channel: Channel
     latest: RevisionStatus | None
+    baseline: RevisionStatus | None = None  # the approved baseline, when it is not the latest
 
 
 def _status_columns():
@@ -93,6 +98,22 @@ def _status_columns():
         Report.verdict,
         Report.violations,
         Report.marginals,
+        Revision.state,
+        exists()
+        .where(TrailEntry.revision_id == Revision.id, TrailEntry.action == "sign_off")
+        .correlate(Revision),
+    )
+
+
+def _signed_off_number(channel_column):
+    """The number of the channel's newest signed-off revision (its approved baseline)."""
+    signed = aliased(Revision)
+    return (
+        select(func.max(signed.number))
+        .join(TrailEntry, and_(TrailEntry.revision_id == signed.id, TrailEntry.action == "sign_off"))
+        .where(signed.channel_id == channel_column)
+        .correlate(Channel)
+        .scalar_subquery()
     )
 
 
@@ -135,10 +156,26 @@ def overview(db: Session, fixture_id: int | None = None) -> list[tuple[Fixture, 
     )
     rows = [RevisionStatus(*row) for row in db.exec(query)]
     _fill_missing(db, rows)
+    baselines_query = _with_report(
+        select(*_status_columns())
+        .select_from(Channel)
+        .join(
+            Revision,
+            and_(Revision.channel_id == Channel.id, Revision.number == _signed_off_number(Channel.id)),
+        )
+        .where(Channel.fixture_id.in_(ids))
+    )
+    baselines = {row.channel_id: row for row in (RevisionStatus(*r) for r in db.exec(baselines_query))}
+    _fill_missing(db, list(baselines.values()))
+    for row in baselines.values():
+        row.approved_baseline = True
     by_channel = {row.channel_id: row for row in rows}
     by_fixture: dict[int, list[ChannelStatus]] = {fixture_id: [] for fixture_id in ids}
     for channel in channels:
-        by_fixture[channel.fixture_id].append(ChannelStatus(channel, by_channel.get(channel.id)))
+        latest, baseline = by_channel.get(channel.id), baselines.get(channel.id)
+        if latest is not None and baseline is not None and baseline.id == latest.id:
+            latest.approved_baseline, baseline = True, None
+        by_fixture[channel.fixture_id].append(ChannelStatus(channel, latest, baseline))
     return [(fixture, by_fixture[fixture.id]) for fixture in fixtures]
 
 
@@ -156,4 +193,8 @@ def history(db: Session, channel_id: int) -> list[RevisionStatus]:
     query = _with_report(select(*_status_columns())).where(Revision.channel_id == channel_id)
     rows = [RevisionStatus(*row) for row in db.exec(query.order_by(Revision.number.desc()))]
     _fill_missing(db, rows)
+    for row in rows:  # newest first: the first signed-off one is the approved baseline
+        if row.signed_off:
+            row.approved_baseline = True
+            break
     return rows

@@ -2,10 +2,12 @@
 
 from __future__ import annotations
 
+from functools import cache
+
 from sqlmodel import Session
 
 from ..models import Channel, Fixture, Revision, User
-from . import review, revisions, trail
+from . import findings_view, labels, review, revisions, trail
 from .errors import InputProblems, NotFound
 
 CAUTION = (
@@ -34,23 +36,33 @@ def inputs(document: dict) -> list[tuple[str, str]]:
     return out
 
 
-def _base(db: Session, revision_id: int, user: User | None) -> dict:
+def _base(db: Session, revision_id: int, user: User | None, sort: str = "") -> dict:
     view = revisions.revision_view(db, revision_id)
     report = view.report.body
     state = review.review_state(db, view.revision, report, user)
+    baseline = review.approved_baseline(db, view.revision.channel_id)
     return {
         "view": view,
         "report": report,
         "review": state,
+        "signed_off": state.sign_off is not None,
+        "baseline": baseline,
+        "is_baseline": baseline is not None and baseline.id == view.revision.id,
+        "history": review.channel_history(db, view.revision.channel_id, view.revision.number),
         "waivers": {rule: detail for rule, (_, detail) in state.waivers.items()},
         "parts": revisions.frozen_parts(view.revision.document),
+        "sort": sort,
+        "findings": findings_view.ordered(report["findings"], sort),
+        "r_at": findings_view.coil_reference_temp(view.revision.document),
         "inputs": inputs(view.revision.document),
+        "labelled_inputs": labels.labelled_inputs(inputs(view.revision.document)),
+        "labelled_parts": labels.labelled_parts(revisions.frozen_parts(view.revision.document)),
         "caution": CAUTION,
     }
 
 
-def page_context(db: Session, revision_id: int, user: User) -> dict:
-    context = _base(db, revision_id, user)
+def page_context(db: Session, revision_id: int, user: User, sort: str = "") -> dict:
+    context = _base(db, revision_id, user, findings_view.sort_key(sort))
     revision = context["view"].revision
     context["compare_with"] = review.default_comparison(db, revision)
     context["labels"] = review.ACTION_LABELS
@@ -117,6 +129,17 @@ def compare_context(db: Session, channel_id: int, old_id: int | None, new_id: in
     channel = db.get(Channel, channel_id)
     fixture = db.get(Fixture, channel.fixture_id)
     return {"channel": channel, "fixture": fixture, "history": history, "cmp": comparison}
+
+
+@cache
+def pdf_available() -> bool:
+    """Whether this server can make the record's PDF (WeasyPrint and the Pango it needs import).
+    Pages offer the download only then; otherwise they offer the browser's print."""
+    try:
+        import weasyprint  # noqa: F401
+    except (ImportError, OSError):
+        return False
+    return True
 
 
 def render_pdf(html: str, base_url: str) -> bytes | None:

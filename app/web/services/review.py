@@ -247,6 +247,27 @@ def cached_report_in_lock(db: Session, revision: Revision) -> dict:
 # ----- what the pages show -----
 
 
+def done_message(db: Session, entry: TrailEntry) -> str:
+    """What an action just did, in words, for the page its redirect lands on."""
+    revision = db.get(Revision, entry.revision_id)
+    rev = f"Rev {revision.label}"
+    detail = json.loads(entry.detail)
+    if entry.action == "hand_in":
+        return f"{rev} handed in for review. It is frozen now; a reviewer signs it off or sends it back."
+    if entry.action == "comment":
+        where = f" on {detail['finding']}" if detail.get("finding") else ""
+        return f"Comment added{where} (trail entry {entry.seq})."
+    if entry.action == "waive":
+        return f"Waiver recorded for {detail['finding']} (trail entry {entry.seq})."
+    if entry.action == "send_back":
+        return f"{rev} sent back to its author with what must change (trail entry {entry.seq})."
+    if entry.action == "sign_off":
+        return f"{rev} signed off (trail entry {entry.seq}); it is now the channel's approved baseline."
+    if entry.action == "replace":
+        return f"Draft {rev} replaced; its findings were evaluated again."
+    return f"{ACTION_LABELS.get(entry.action, entry.action).capitalize()} (trail entry {entry.seq})."
+
+
 @dataclass
 class ActionChoice:
     action: str
@@ -255,10 +276,58 @@ class ActionChoice:
 
 
 @dataclass
+class ReviewEvent:
+    """One thing said or decided in review, for the history: who, when, what, and the words."""
+
+    action: str
+    label: str
+    who: str
+    role: str
+    at: str  # ISO UTC, as chained
+    text: str = ""  # hand-in note, what must change, sign-off note, comment, justification
+    finding: str | None = None
+    revision_label: str = ""
+    seq: int = 0
+
+
+# What each action's text is called where it is shown.
+TEXT_NAMES = {
+    "hand_in": "Note to the reviewer",
+    "send_back": "What must change",
+    "sign_off": "Sign-off note",
+    "comment": "Comment",
+    "waive": "Justification",
+    "replace": "Change note",
+}
+HISTORY_ACTIONS = ("hand_in", "comment", "waive", "send_back", "sign_off", "replace")
+
+
+def _event(entry: TrailEntry, detail: dict, revision_label: str = "") -> ReviewEvent:
+    text = detail.get("justification") if entry.action == "waive" else detail.get("text")
+    if text is None:
+        text = detail.get("note") or detail.get("change_note") or ""
+    return ReviewEvent(
+        entry.action,
+        ACTION_LABELS.get(entry.action, entry.action),
+        entry.user_name,
+        entry.role,
+        entry.at,
+        text,
+        detail.get("finding"),
+        revision_label,
+        entry.seq,
+    )
+
+
+@dataclass
 class ReviewState:
     revision: Revision
     state_label: str
     entries: list[TrailEntry]
+    history: list[ReviewEvent] = field(default_factory=list)  # this revision's, oldest first
+    hand_in: ReviewEvent | None = None
+    send_back: ReviewEvent | None = None
+    sign_off: ReviewEvent | None = None
     comments: list[tuple[TrailEntry, dict]] = field(default_factory=list)  # on the revision
     finding_comments: dict[str, list[tuple[TrailEntry, dict]]] = field(default_factory=dict)
     waivers: dict[str, tuple[TrailEntry, dict]] = field(default_factory=dict)
@@ -275,6 +344,11 @@ def review_state(db: Session, revision: Revision, report_body: dict, user: User 
     view = ReviewState(revision, workflow.STATE_LABELS[revision.state], entries)
     for entry in entries:
         detail = json.loads(entry.detail)
+        if entry.action in HISTORY_ACTIONS:
+            event = _event(entry, detail, revision.label)
+            view.history.append(event)
+            if entry.action in ("hand_in", "send_back", "sign_off"):
+                setattr(view, entry.action, event)
         if entry.action == "comment":
             if detail.get("finding"):
                 view.finding_comments.setdefault(detail["finding"], []).append((entry, detail))
@@ -296,6 +370,43 @@ def review_state(db: Session, revision: Revision, report_body: dict, user: User 
             except Refused as exc:
                 view.choices[action] = ActionChoice(action, False, str(exc))
     return view
+
+
+def channel_history(db: Session, channel_id: int, up_to_number: int) -> list[ReviewEvent]:
+    """What was said and decided on a channel's revisions up to and including one: hand-ins,
+    comments, waivers, send-backs with their reasons, sign-offs; oldest first."""
+    rows = db.exec(
+        select(TrailEntry, Revision.label)
+        .join(Revision, Revision.id == TrailEntry.revision_id)
+        .where(Revision.channel_id == channel_id, Revision.number <= up_to_number)
+        .where(TrailEntry.action.in_(HISTORY_ACTIONS))
+        .order_by(TrailEntry.seq)
+    ).all()
+    return [_event(entry, json.loads(entry.detail), label) for entry, label in rows]
+
+
+def signed_off_ids(db: Session, revision_ids: list[int]) -> set[int]:
+    """Which of these revisions were signed off (a sign-off stays when a revision is superseded)."""
+    if not revision_ids:
+        return set()
+    return set(
+        db.exec(
+            select(TrailEntry.revision_id).where(
+                TrailEntry.revision_id.in_(revision_ids), TrailEntry.action == "sign_off"
+            )
+        )
+    )
+
+
+def approved_baseline(db: Session, channel_id: int) -> Revision | None:
+    """The channel's approved baseline: its newest signed-off revision."""
+    return db.exec(
+        select(Revision)
+        .join(TrailEntry, TrailEntry.revision_id == Revision.id)
+        .where(Revision.channel_id == channel_id, TrailEntry.action == "sign_off")
+        .order_by(Revision.number.desc())
+        .limit(1)
+    ).first()
 
 
 def default_comparison(db: Session, revision: Revision) -> Revision | None:
