@@ -141,6 +141,7 @@ class RevisionSummary(BaseModel):
     state: str = Field(description="review state: draft, in_review, returned, signed_off, superseded")
     signed_off: bool = Field(description="signed off (a sign-off stays when the revision is superseded)")
     approved_baseline: bool = Field(description="the channel's newest signed-off revision")
+    waivers: int = Field(description="findings accepted with a waiver")
 
 
 class ChannelOut(BaseModel):
