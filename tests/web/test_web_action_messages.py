@@ -31,3 +31,12 @@ def test_a_crafted_message_is_not_shown(world, reviewer):
     rev_c = revision_ids(world, K1)[2]
     page = reviewer.get(f"/revisions/{rev_c}/review", params={"done": "Rev C signed off"}).text
     assert 'class="flash"' not in page and "Rev C signed off" not in page
+
+
+def test_saving_a_part_says_so(designer):
+    diode = {"vrrm": "200", "if_avg": "1 A", "i_peak": "30", "vf": "1.1 V", "vf_at": "1"}
+    created = designer.post("/parts", data={"kind": "diode", "name": "Bench rectifier", **diode})
+    assert "Part “Bench rectifier” added to the library." in designer.get(created.headers["location"]).text
+    part = designer.get("/api/v1/parts", params={"kind": "diode", "q": "bench"}).json()[0]
+    edited = designer.post(f"/parts/{part['id']}", data={"name": "Bench rectifier", **diode, "vf": "1.0 V"})
+    assert "Part “Bench rectifier” saved" in designer.get(edited.headers["location"]).text

@@ -46,6 +46,8 @@ def test_the_api_revision_objects_carry_the_review_state(world, reviewer):
     assert (k5["state"], k5["verdict"], k5["waivers"]) == ("signed_off", "marginal", 1)
     one = reviewer.get(f"/api/v1/revisions/{b}").json()
     assert one["state"] == "superseded" and one["approved_baseline"] is True
+    k5_rev = reviewer.get(f"/api/v1/revisions/{k5['id']}").json()
+    assert (k5_rev["state"], k5_rev["signed_off"], k5_rev["waivers"]) == ("signed_off", True, 1)
 
 
 def test_signing_off_moves_the_baseline_at_once_on_the_home_page(world, reviewer):
