@@ -25,6 +25,16 @@ def test_comments_waivers_and_saves_each_say_what_happened(world, reviewer, desi
         data={**form_values(world, K1), "change_note": "again"},
     )
     assert "saved as a draft" in designer.get(saved.headers["location"]).text
+    # rev A's design again (no clamp: the switch breaks down), handed in and waived
+    rev_a_doc = designer.get(f"/api/v1/revisions/{revision_ids(world, K1)[0]}").json()["document"]
+    made = designer.post(f"/api/v1/channels/{channel_id(world, K1)}/revisions", json={"document": rev_a_doc})
+    rid = made.json()["id"]
+    assert designer.post(f"/revisions/{rid}/hand-in", data={"note": ""}).status_code == 303
+    waived = reviewer.post(
+        f"/revisions/{rid}/waivers",
+        data={"finding": "switch.breakdown", "justification": "bench test only, never fielded"},
+    )
+    assert "Waiver recorded for switch.breakdown" in reviewer.get(waived.headers["location"]).text
 
 
 def test_a_crafted_message_is_not_shown(world, reviewer):
