@@ -77,7 +77,7 @@ def make_templates() -> Jinja2Templates:
         formula=formula,
         ENGINE_VERSION=ENGINE_VERSION,
         age=age,
-        pdf_available=record.pdf_available,
+        pdf_available=lambda: record.pdf_available(),  # looked up at call time (tests swap it)
         corner_words=findings_view.corner_words,
         direction=findings_view.direction,
         margin_text=findings_view.margin_text,

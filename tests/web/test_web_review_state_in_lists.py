@@ -17,6 +17,7 @@ def test_home_and_fixture_pages_show_review_state_beside_the_verdict(world, revi
     assert "approved baseline" in k1 and ">rev B</a>" in k1  # rev C is newest; B is the baseline
     k5 = _row(home, K5)
     assert "Past derating" in k5 and "Signed off" in k5 and "approved baseline" in k5
+    assert "1 waiver" in k5  # signed off with the marginal finding accepted: not just "past derating"
     fixture_id = reviewer.get("/api/v1/fixtures").json()[0]["id"]
     fixture_page = reviewer.get(f"/fixtures/{fixture_id}").text
     assert "In review" in _row(fixture_page, K1)
@@ -41,8 +42,12 @@ def test_the_api_revision_objects_carry_the_review_state(world, reviewer):
         False,
         False,
     )
+    k5 = reviewer.get(f"/api/v1/channels/{channel_id(world, K5)}").json()["latest"]
+    assert (k5["state"], k5["verdict"], k5["waivers"]) == ("signed_off", "marginal", 1)
     one = reviewer.get(f"/api/v1/revisions/{b}").json()
     assert one["state"] == "superseded" and one["approved_baseline"] is True
+    k5_rev = reviewer.get(f"/api/v1/revisions/{k5['id']}").json()
+    assert (k5_rev["state"], k5_rev["signed_off"], k5_rev["waivers"]) == ("signed_off", True, 1)
 
 
 def test_signing_off_moves_the_baseline_at_once_on_the_home_page(world, reviewer):

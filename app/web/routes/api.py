@@ -150,6 +150,7 @@ class RevisionSummary(BaseModel):
     state: str = Field(description="review state: draft, in_review, returned, signed_off, superseded")
     signed_off: bool = Field(description="signed off (a sign-off stays when the revision is superseded)")
     approved_baseline: bool = Field(description="the channel's newest signed-off revision")
+    waivers: int = Field(description="findings accepted with a waiver")
 
 
 class ChannelOut(BaseModel):
@@ -250,6 +251,7 @@ class RevisionOut(BaseModel):
     state: str = Field(description="review state: draft, in_review, returned, signed_off, superseded")
     signed_off: bool = Field(description="signed off (a sign-off stays when the revision is superseded)")
     approved_baseline: bool = Field(description="the channel's newest signed-off revision")
+    waivers: int = Field(description="findings accepted with a waiver")
     document: dict[str, Any]
 
 
@@ -270,6 +272,7 @@ def _revision(db, view) -> RevisionOut:
         state=r.state,
         signed_off=bool(review.signed_off_ids(db, [r.id])),
         approved_baseline=baseline is not None and baseline.id == r.id,
+        waivers=len(review.waived_rules(db, r.id)),
         document=r.document,
     )
 

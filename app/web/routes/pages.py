@@ -24,12 +24,23 @@ def _overview_html(request: Request, db) -> Markup:
     return html
 
 
+def _queues(request: Request, db, user) -> queues.Queues:
+    """The person's queues, kept until anything is added to the trail (every hand-in, send-back,
+    sign-off and save appends an entry, so the overview version moves with them)."""
+    key = ("queues", user.id, user.role, fixtures.overview_version(db))
+    found = request.app.state.fragments.get(key)
+    if found is None:
+        found = queues.queues_for(db, user)
+        request.app.state.fragments.put(key, found)
+    return found
+
+
 @router.get("/")
 def home(request: Request, db: DB, user: Viewer):
     return render(
         request,
         "home.html",
-        queues=queues.queues_for(db, user),
+        queues=_queues(request, db, user),
         overview_html=_overview_html(request, db),
         errors={},
         form={},

@@ -76,6 +76,7 @@ class RevisionStatus:
     marginals: int | None
     state: str = "draft"
     signed_off: bool = False  # a sign-off stays on its revision after it is superseded
+    waivers: int = 0  # findings accepted with a waiver (a signed-off "past derating" reads right)
     approved_baseline: bool = False  # the channel's newest signed-off revision
 
 
@@ -102,6 +103,10 @@ def _status_columns():
         exists()
         .where(TrailEntry.revision_id == Revision.id, TrailEntry.action == "sign_off")
         .correlate(Revision),
+        select(func.count(TrailEntry.seq))
+        .where(TrailEntry.revision_id == Revision.id, TrailEntry.action == "waive")
+        .correlate(Revision)
+        .scalar_subquery(),
     )
 
 

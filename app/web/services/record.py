@@ -6,6 +6,8 @@ from functools import cache
 
 from sqlmodel import Session
 
+from app.signoff.compare import KIND_LABELS
+
 from ..models import Channel, Fixture, Revision, User
 from . import findings_view, labels, review, revisions, trail
 from .errors import InputProblems, NotFound
@@ -128,7 +130,14 @@ def compare_context(db: Session, channel_id: int, old_id: int | None, new_id: in
     comparison = review.compare_revisions(db, channel_id, old_id, new_id)
     channel = db.get(Channel, channel_id)
     fixture = db.get(Fixture, channel.fixture_id)
-    return {"channel": channel, "fixture": fixture, "history": history, "cmp": comparison}
+    return {
+        "channel": channel,
+        "fixture": fixture,
+        "history": history,
+        "cmp": comparison,
+        "baseline": review.approved_baseline(db, channel_id),
+        "kind_labels": KIND_LABELS,
+    }
 
 
 @cache

@@ -1,0 +1,68 @@
+"""Findings a reviewer can check by hand: the worst corner in words with units and the values
+the rule used, the limit's direction, a margin column sortable without script, and on the
+review page everything the revision page has."""
+
+import re
+
+from .conftest import K1, revision_ids
+
+
+def _row(page: str, rule: str) -> str:
+    return page.split(f'id="f-{rule}"', 1)[1].split("</tr>", 1)[0]
+
+
+def test_the_worst_corner_reads_in_words_with_units_and_the_coil_used(world, reviewer):
+    rev_c = revision_ids(world, K1)[2]
+    row = _row(reviewer.get(f"/revisions/{rev_c}").text, "switch.current")
+    assert "supply <b>26.4 V</b>" in row and "ambient <b>0 °C</b>" in row
+    # the coil's 144 Ω (160 Ω − 10 %) holds at 20 °C; at 0 °C the rule used
+    # 144·(1 + 0.00393·(0 − 20)) = 132.68 Ω (copper α, IEC 60028)
+    assert "coil resistance <b>132.7 Ω at 0 °C (144 Ω at 20 °C)</b>" in row
+    assert "base resistor <b>209 Ω</b>" in row
+    assert '<code class="key">r_coil</code>' in row  # the design file's key, small beside the words
+
+
+def test_limits_carry_their_direction_and_a_margin(world, reviewer):
+    page = reviewer.get(f"/revisions/{revision_ids(world, K1)[2]}").text
+    pickup = _row(page, "coil.pickup")  # a lower bound: the coil must get at least this
+    assert "≥ 19.8 V" in pickup and "≥ 18 V" in pickup
+    # margin (21.1 − 19.8)/19.8 ≈ +6.7 % inside the limit (values as the report rounds them)
+    assert re.search(r'class="num margin">\+6\.\d %', pickup)
+    current = _row(page, "switch.current")  # an upper bound: 195 mA against ≤ 800 mA
+    assert "≤ 800 mA" in current and "+75.6 %" in current
+    assert "inside (+) or past (−) the derated limit" in page
+
+
+def test_sorting_by_margin_puts_the_tightest_finding_first(world, reviewer):
+    rev_a = revision_ids(world, K1)[0]
+    page = reviewer.get(f"/revisions/{rev_a}", params={"sort": "margin"}).text
+    order = re.findall(r'id="f-([a-z_.]+)"', page)
+    margins = [
+        float(m)
+        for m in re.findall(r'class="num margin">([+-]?\d+\.\d) %', page.split('class="findings"', 1)[1])
+    ]
+    assert margins == sorted(margins) and len(margins) >= 10
+    assert order[: len(margins)][0] == "drive.saturation"  # +0.3 %: the tightest in rev A
+    assert order[-1] in ("switch.breakdown", "coil.release", "clamp.energy")  # no margin: last
+    assert "<strong>smallest margin first</strong>" in page
+    review = reviewer.get(f"/revisions/{rev_a}/review", params={"sort": "margin"}).text
+    assert re.findall(r'id="f-([a-z_.]+)"', review) == order
+
+
+def test_an_unknown_sort_order_is_refused_by_name(world, reviewer):
+    response = reviewer.get(f"/revisions/{revision_ids(world, K1)[0]}", params={"sort": "sideways"})
+    assert response.status_code == 422 and "sort" in response.text and "margin" in response.text
+
+
+def test_the_review_page_has_everything_the_revision_page_has(world, reviewer):
+    rev_c = revision_ids(world, K1)[2]
+    review = reviewer.get(f"/revisions/{rev_c}/review").text
+    for heading in (
+        "Nominal operating point",
+        "Turn-off (nominal corner)",
+        "Other clamps",
+        "Parts as frozen",
+    ):
+        assert heading in review, heading
+    assert review.count('<details class="formula">') >= 10
+    assert "accept with a waiver" in review or "comment on this finding" in review  # its own tools too
