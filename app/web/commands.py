@@ -46,14 +46,17 @@ def _demo(args: argparse.Namespace) -> int:
     settings = Settings(data_dir=data_dir, database_url=f"sqlite:///{os.path.join(data_dir, 'demo.sqlite3')}")
     settings = settings.resolved()
     engine = build_demo(settings.database_url, fresh=True)
-    url = f"http://{args.host}:{args.port}/"
-    print(f"Clampdown demo on {url}  (a fresh database in {data_dir})")
+    if args.no_serve:
+        print(f"Demo database built in {data_dir} (not served; `clampdown demo` serves it).")
+    else:
+        print(f"Clampdown demo on http://{args.host}:{args.port}/  (a fresh database in {data_dir})")
     print("Sign in as one of (password for all: " + DEMO_PASSWORD + "):")
     for name, role in DEMO_USERS:
         print(f"  {name:8} {role}")
-    sys.stdout.flush()
     if args.no_serve:
         return 0
+    print("Press Ctrl+C to stop the server.")
+    sys.stdout.flush()
     uvicorn.run(create_app(settings, engine=engine), host=args.host, port=args.port, log_level="warning")
     return 0
 
@@ -80,11 +83,43 @@ def _user_add(args: argparse.Namespace) -> int:
     return 0
 
 
+def _database_exists(url) -> bool:
+    """Whether the database the URL names is there, without creating it (SQLite would)."""
+    from sqlalchemy import create_engine, inspect
+
+    if url.get_backend_name() == "sqlite":
+        path = url.database
+        if not path or path == ":memory:" or not os.path.isfile(path):
+            return False
+    probe = create_engine(url)
+    try:
+        with probe.connect() as connection:
+            return inspect(connection).has_table("trail_entry")
+    except Exception:  # cannot connect: the database is not there for us
+        return False
+    finally:
+        probe.dispose()
+
+
 def _trail_verify(args: argparse.Namespace) -> int:
+    from sqlalchemy.engine import make_url
+
+    from .config import Settings
     from .db import make_engine, migrate, session_scope
     from .services.trail import verify_all
 
-    engine = make_engine(_settings().database_url)
+    # Not the resolved settings: checking must not create a data directory or a database.
+    url = make_url(Settings().database_url_or_default())
+    shown = url.render_as_string(hide_password=True)
+    print(f"database: {shown}", flush=True)
+    if not _database_exists(url):
+        raise InputError(
+            [
+                f"database {shown}: not found, or it holds no Clampdown trail; nothing was checked. "
+                "Set CLAMPDOWN_DATABASE_URL (or CLAMPDOWN_DATA_DIR) to the database to verify."
+            ]
+        )
+    engine = make_engine(url.render_as_string(hide_password=False))
     migrate(engine)
     with session_scope(engine) as db:
         check = verify_all(db)

@@ -23,11 +23,15 @@ class Settings(BaseSettings):
     # Only for the screenshot script and tests; never set in production.
     cookie_secure: bool = False
 
+    def database_url_or_default(self) -> str:
+        """The database URL, or the SQLite file in the data directory when none is set."""
+        data_dir = self.data_dir.expanduser().resolve()
+        return normalise_database_url(self.database_url or f"sqlite:///{data_dir / 'clampdown.sqlite3'}")
+
     def resolved(self) -> Settings:
         """Fill the defaults that live in the data directory: the SQLite file and the secret key."""
         data_dir = self.data_dir.expanduser().resolve()
-        url = self.database_url or f"sqlite:///{data_dir / 'clampdown.sqlite3'}"
-        url = normalise_database_url(url)
+        url = self.database_url_or_default()
         key = self.secret_key or _kept_secret(data_dir)
         if url.startswith("sqlite"):
             data_dir.mkdir(parents=True, exist_ok=True)

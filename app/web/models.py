@@ -43,6 +43,10 @@ class Part(SQLModel, table=True):
     name: str = Field(max_length=200)
     params: dict = Field(default_factory=dict, sa_column=Column(JSON, nullable=False))
     notes: str = Field(default="", max_length=5000)
+    # For the reader (the part page and the record); copied into a revision with the part.
+    maker_part: str = Field(default="", max_length=100, sa_column_kwargs={"server_default": ""})
+    package: str = Field(default="", max_length=60, sa_column_kwargs={"server_default": ""})
+    datasheet: str = Field(default="", max_length=500, sa_column_kwargs={"server_default": ""})
     archived: bool = False
     created_at: datetime = _when()
     updated_at: datetime = _when()

@@ -13,6 +13,7 @@ from app.engine.rules import RULES
 from app.engine.units import format_si
 
 from .config import REPO_ROOT
+from .permissions import can
 
 # Our own status wording: the label says it in words, the mark says it in shape, so neither
 # colour nor a legend is needed to read a finding (print, greyscale, colour-blind readers).
@@ -38,6 +39,11 @@ def when(value: datetime | None) -> str:
     return value.strftime("%Y-%m-%d %H:%M UTC") if value else "—"
 
 
+def plural(count: int, noun: str, many: str | None = None) -> str:
+    """'1 comment', '2 comments', '0 comments' (``many`` for irregular plurals)."""
+    return f"{count} {noun if count == 1 else (many or noun + 's')}"
+
+
 def formula(rule_id: str) -> str:
     registered = RULES.get(rule_id)
     return registered.formula if registered else ""
@@ -50,8 +56,8 @@ def make_templates() -> Jinja2Templates:
         trim_blocks=True,
         lstrip_blocks=True,
     )
-    env.filters.update(si=si, when=when)
-    env.globals.update(STATUS=STATUS, formula=formula, ENGINE_VERSION=ENGINE_VERSION)
+    env.filters.update(si=si, when=when, plural=plural)
+    env.globals.update(STATUS=STATUS, formula=formula, ENGINE_VERSION=ENGINE_VERSION, can=can)
     return Jinja2Templates(env=env)
 
 

@@ -86,7 +86,7 @@ def app(engine, tmp_path):
 @pytest.fixture
 def world(app):
     """The demo scenario: parts, users lee (reviewer), dana and sam (designers), ari (admin),
-    the fixture with four channels and their revisions."""
+    the fixture with five channels and their revisions."""
     from sqlmodel import Session
 
     with Session(app.state.engine, expire_on_commit=False) as db:

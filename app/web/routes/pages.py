@@ -6,7 +6,7 @@ from fastapi import APIRouter, Request
 from fastapi.responses import RedirectResponse
 from markupsafe import Markup
 
-from ..deps import DB, Designer, Viewer
+from ..deps import DB, FixtureEditor, Viewer
 from ..services import fixtures
 from ..services.errors import InputProblems
 from ..templating import render
@@ -31,7 +31,7 @@ def home(request: Request, db: DB, user: Viewer):
 
 
 @router.post("/fixtures")
-async def create_fixture(request: Request, db: DB, user: Designer):
+async def create_fixture(request: Request, db: DB, user: FixtureEditor):
     form = await request.form()
     values = {k: str(form.get(k, "")) for k in ("name", "description")}
     try:
@@ -41,7 +41,7 @@ async def create_fixture(request: Request, db: DB, user: Designer):
             request,
             "home.html",
             status_code=422,
-            overview=fixtures.overview(db),
+            overview_html=_overview_html(request, db),
             errors=dict(exc.problems),
             form=values,
         )
@@ -55,7 +55,7 @@ def fixture_page(request: Request, db: DB, user: Viewer, fixture_id: int):
 
 
 @router.post("/fixtures/{fixture_id}/channels")
-async def create_channel(request: Request, db: DB, user: Designer, fixture_id: int):
+async def create_channel(request: Request, db: DB, user: FixtureEditor, fixture_id: int):
     form = await request.form()
     values = {k: str(form.get(k, "")) for k in ("name", "load")}
     mains = form.get("mains_load") in ("on", "true", "1")

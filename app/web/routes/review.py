@@ -13,7 +13,7 @@ from fastapi import APIRouter, File, Form, Request, UploadFile
 from fastapi.responses import RedirectResponse, Response
 
 from ..deps import DB, Viewer
-from ..services import record, review
+from ..services import record, review, revisions
 from ..services.errors import InputProblems
 from ..templating import render
 
@@ -31,7 +31,12 @@ Text = Annotated[str, Form()]
 
 @router.get("/revisions/{revision_id}/review")
 def review_page(request: Request, db: DB, user: Viewer, revision_id: int):
-    return render(request, "review.html", **record.page_context(db, revision_id, user))
+    return render(
+        request,
+        "review.html",
+        **record.page_context(db, revision_id, user),
+        pdf_available=record.pdf_available(),
+    )
 
 
 @router.post("/revisions/{revision_id}/hand-in")
@@ -98,27 +103,26 @@ def compare_page(
 
 @router.get("/revisions/{revision_id}/record")
 def record_page(request: Request, db: DB, user: Viewer, revision_id: int):
-    return render(request, "record.html", **record.record_context(db, revision_id), pdf=False)
+    return render(
+        request,
+        "record.html",
+        **record.record_context(db, revision_id),
+        pdf=False,
+        pdf_available=record.pdf_available(),
+    )
 
 
 @router.get("/revisions/{revision_id}/record.pdf")
 def record_pdf(request: Request, db: DB, user: Viewer, revision_id: int):
+    if not record.pdf_available():
+        # No server PDF here: the printed record itself, for the browser's Print → Save as PDF.
+        revisions.get_revision(db, revision_id)  # an unknown revision is still a 404
+        return RedirectResponse(f"/revisions/{revision_id}/record", status_code=303)
     context = record.record_context(db, revision_id)
     html = request.app.state.templates.get_template("record.html").render(**context, pdf=True)
     pdf = record.render_pdf(html, base_url=str(request.base_url))
     if pdf is None:
-        return render(
-            request,
-            "error.html",
-            status_code=501,
-            title="PDF not available here",
-            lines=[
-                'This server cannot make PDFs (WeasyPrint is not installed: pip install ".[pdf]", '
-                "which needs the Pango library).",
-                f"Open the printed record (/revisions/{revision_id}/record) and use the browser's "
-                "Print → Save as PDF; the page is laid out for A4 and Letter.",
-            ],
-        )
+        return RedirectResponse(f"/revisions/{revision_id}/record", status_code=303)
     name = f"record-{context['view'].channel.id}-rev-{context['view'].revision.label}.pdf"
     return Response(
         pdf, media_type="application/pdf", headers={"Content-Disposition": f'attachment; filename="{name}"'}

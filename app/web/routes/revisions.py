@@ -10,7 +10,8 @@ from markupsafe import Markup
 
 from app.engine import DesignError
 
-from ..deps import DB, Designer, Viewer
+from ..deps import DB, RevisionAuthor, Viewer
+from ..permissions import can
 from ..services import fixtures, record, revision_form, revisions, trail
 from ..services.documents import canonical_json
 from ..services.errors import InputProblems
@@ -25,7 +26,7 @@ router = APIRouter(include_in_schema=False)
 async def revision_page(request: Request, db: DB, user: Viewer, revision_id: int):
     # The report never changes for a content hash; state, comments and waivers change with the
     # trail, so the revision's newest trail entry is part of the key (one indexed lookup).
-    can_edit = user.role in ("designer", "admin")
+    can_edit = can(user, "create_revision")
     key = (revision_id, can_edit, trail.last_seq_for(db, revision_id))
     cached = request.app.state.fragments.get(key)
     if cached is None:
@@ -83,7 +84,7 @@ def _preview(db, values: dict[str, str]) -> tuple[dict | None, dict[str, list[st
 
 
 @router.get("/channels/{channel_id}/new")
-def new_revision_page(request: Request, db: DB, user: Designer, channel_id: int):
+def new_revision_page(request: Request, db: DB, user: RevisionAuthor, channel_id: int):
     channel = fixtures.get_channel(db, channel_id)
     latest = revisions.latest_revision(db, channel_id)
     if latest is not None:
@@ -103,7 +104,7 @@ def new_revision_page(request: Request, db: DB, user: Designer, channel_id: int)
 
 
 @router.post("/channels/{channel_id}/preview")
-async def preview(request: Request, db: DB, user: Designer, channel_id: int):
+async def preview(request: Request, db: DB, user: RevisionAuthor, channel_id: int):
     values = revision_form.values_from_form(await request.form())
     report, errors = _preview(db, values)
     context = _form_context(db, channel_id, values, errors)
@@ -114,7 +115,7 @@ async def preview(request: Request, db: DB, user: Designer, channel_id: int):
 
 
 @router.post("/channels/{channel_id}/revisions")
-async def save_revision(request: Request, db: DB, user: Designer, channel_id: int):
+async def save_revision(request: Request, db: DB, user: RevisionAuthor, channel_id: int):
     form = await request.form()
     values = revision_form.values_from_form(form)
     values["change_note"] = str(form.get("change_note", "")).strip()
@@ -134,7 +135,7 @@ MAX_UPLOAD = 1_000_000
 
 
 @router.post("/channels/{channel_id}/upload")
-async def upload_revision(request: Request, db: DB, user: Designer, channel_id: int):
+async def upload_revision(request: Request, db: DB, user: RevisionAuthor, channel_id: int):
     form = await request.form()
     upload = form.get("file")
     change_note = str(form.get("change_note", ""))

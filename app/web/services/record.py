@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 from sqlmodel import Session
 
 from ..models import Channel, Fixture, Revision, User
@@ -81,6 +83,16 @@ def compare_context(db: Session, channel_id: int, old_id: int | None, new_id: in
     channel = db.get(Channel, channel_id)
     fixture = db.get(Fixture, channel.fixture_id)
     return {"channel": channel, "fixture": fixture, "history": history, "cmp": comparison}
+
+
+@lru_cache(maxsize=1)
+def pdf_available() -> bool:
+    """Whether this server can make PDFs (WeasyPrint importable, with its system libraries)."""
+    try:
+        import weasyprint  # noqa: F401
+    except (ImportError, OSError):
+        return False
+    return True
 
 
 def render_pdf(html: str, base_url: str) -> bytes | None:

@@ -24,17 +24,12 @@ from app.signoff.canonical import canonical_json, sha256_hex
 from app.signoff.workflow import Actor
 
 from ..models import Revision, TrailEntry, TrailHead, User
-
-# The web app gives each user one role; the workflow reasons about sets of roles.
-ROLE_GRANTS = {
-    "admin": frozenset({"admin", "reviewer", "designer"}),
-    "reviewer": frozenset({"reviewer"}),
-    "designer": frozenset({"designer"}),
-}
+from ..permissions import workflow_roles
 
 
 def actor(user: User) -> Actor:
-    return Actor.of(user.id, ROLE_GRANTS.get(user.role, frozenset()))
+    """The workflow's view of a user: the role set derived from the named actions."""
+    return Actor.of(user.id, workflow_roles(user))
 
 
 def lock(db: Session) -> TrailHead:
