@@ -11,6 +11,13 @@ from pydantic_settings import BaseSettings, SettingsConfigDict
 REPO_ROOT = Path(__file__).resolve().parents[2]
 
 
+def shipped(name: str) -> Path:
+    """A directory the app reads at run time (templates, static, migrations, seed_data): inside the
+    installed package (setup.py maps each there), or at the top of a source checkout."""
+    installed = Path(__file__).resolve().parent / "_shipped" / name
+    return installed if installed.is_dir() else REPO_ROOT / name
+
+
 class Settings(BaseSettings):
     """CLAMPDOWN_DATA_DIR, CLAMPDOWN_DATABASE_URL, CLAMPDOWN_SECRET_KEY, CLAMPDOWN_SESSION_DAYS."""
 

@@ -10,7 +10,7 @@ from fastapi.staticfiles import StaticFiles
 from starlette.datastructures import MutableHeaders
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
-from .config import REPO_ROOT, Settings, get_settings
+from .config import Settings, get_settings, shipped
 from .db import make_engine
 from .deps import CsrfRefused, Forbidden, SignInRequired, csrf_protect, current_user
 from .security import COOKIE_NAME, SessionSigner
@@ -75,7 +75,7 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
     app.state.templates = make_templates()
     app.state.fragments = FragmentCache()  # revision page bodies and the home overview
     app.add_middleware(SessionCookie, signer=app.state.signer, secure=settings.cookie_secure)
-    app.mount("/static", StaticFiles(directory=str(REPO_ROOT / "static")), name="static")
+    app.mount("/static", StaticFiles(directory=str(shipped("static"))), name="static")
 
     from .routes import admin, api, auth, pages, parts, review, revisions
 

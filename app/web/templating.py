@@ -12,7 +12,7 @@ from app.engine import ENGINE_VERSION
 from app.engine.rules import RULES
 from app.engine.units import format_si
 
-from .config import REPO_ROOT
+from .config import shipped
 from .permissions import can
 
 # Our own status wording: the label says it in words, the mark says it in shape, so neither
@@ -51,7 +51,7 @@ def formula(rule_id: str) -> str:
 
 def make_templates() -> Jinja2Templates:
     env = Environment(
-        loader=FileSystemLoader(str(REPO_ROOT / "templates")),
+        loader=FileSystemLoader(str(shipped("templates"))),
         autoescape=True,
         trim_blocks=True,
         lstrip_blocks=True,
