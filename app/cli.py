@@ -71,11 +71,35 @@ def load_design_file(path: str):
         raise InputError.about(path, [_split_problem(line) for line in exc.problems]) from None
 
 
+def load_profile_file(path: str):
+    """Read a derating profile file (JSON, clampdown-profile/1), or raise InputError naming each bad field."""
+    from .engine.profile import ProfileError, profile_from_dict
+
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError.about(path, [("", "no such file")]) from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError.about(path, [("", f"cannot be read ({exc.__class__.__name__}: {exc})")]) from None
+    try:
+        values = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise InputError.about(
+            path, [("", f"not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})")]
+        ) from None
+    try:
+        return profile_from_dict(values)
+    except ProfileError as exc:
+        raise InputError.about(path, exc.problems) from None
+
+
 def _check(args: argparse.Namespace) -> int:
+    from .engine.profile import DEFAULT_PROFILE
     from .engine.text_report import render_table
 
+    profile = load_profile_file(args.profile) if args.profile else DEFAULT_PROFILE
     design = load_design_file(args.file)
-    report = evaluate(design)
+    report = evaluate(design, profile)
     if args.format == "json":
         print(json.dumps(report, indent=2, ensure_ascii=False))
     else:
@@ -126,6 +150,12 @@ def build_parser() -> argparse.ArgumentParser:
     check.add_argument("file", help="design file (JSON, clampdown-design/1), or - for standard input")
     check.add_argument("--format", choices=("table", "json"), default="table")
     check.add_argument("--strict", action="store_true", help="exit 1 on marginal findings too")
+    check.add_argument(
+        "--profile",
+        metavar="FILE",
+        help="derating profile (JSON, clampdown-profile/1: name and the figures to change; "
+        "the rest are the general preset's)",
+    )
     check.set_defaults(run=_check)
 
     schema = sub.add_parser("schema", help="print the JSON Schema of the design file")

@@ -77,9 +77,9 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
     app.add_middleware(SessionCookie, signer=app.state.signer, secure=settings.cookie_secure)
     app.mount("/static", StaticFiles(directory=str(shipped("static"))), name="static")
 
-    from .routes import admin, api, auth, pages, parts, review, revisions
+    from .routes import admin, api, auth, pages, parts, profiles, review, revisions
 
-    for module in (auth, pages, revisions, review, parts, admin):
+    for module in (auth, pages, revisions, review, parts, profiles, admin):
         app.include_router(module.router)
     app.include_router(api.router, prefix="/api/v1")
 

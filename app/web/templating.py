@@ -9,6 +9,7 @@ from fastapi.templating import Jinja2Templates
 from jinja2 import Environment, FileSystemLoader
 
 from app.engine import ENGINE_VERSION
+from app.engine.profile import FIGURES
 from app.engine.rules import RULES
 from app.engine.units import format_si
 
@@ -44,6 +45,16 @@ def plural(count: int, noun: str, many: str | None = None) -> str:
     return f"{count} {noun if count == 1 else (many or noun + 's')}"
 
 
+def figure(value: float, key: str, for_input: bool = False) -> str:
+    """A derating profile's figure as people write it: "80 %", "125 °C", "2×" (inputs: no ×)."""
+    kind = FIGURES[key][1]
+    if kind in ("fraction", "margin"):
+        return f"{value * 100:g} %"
+    if kind == "celsius":
+        return f"{value:g}" if for_input else f"{value:g} °C"
+    return f"{value:g}" if for_input else f"{value:g}×"
+
+
 def formula(rule_id: str) -> str:
     registered = RULES.get(rule_id)
     return registered.formula if registered else ""
@@ -56,7 +67,7 @@ def make_templates() -> Jinja2Templates:
         trim_blocks=True,
         lstrip_blocks=True,
     )
-    env.filters.update(si=si, when=when, plural=plural)
+    env.filters.update(si=si, when=when, plural=plural, figure=figure)
     env.globals.update(STATUS=STATUS, formula=formula, ENGINE_VERSION=ENGINE_VERSION, can=can)
     return Jinja2Templates(env=env)
 

@@ -24,7 +24,18 @@ from app.web.trail_guard import create_guards, drop_guards  # noqa: E402
 
 PG_URL = os.environ.get("CLAMPDOWN_TEST_DATABASE_URL")
 BACKENDS = ["sqlite"] + (["postgresql"] if PG_URL else [])
-TABLES = ("trail_entry", "revision_part", "report", "revision", "channel", "fixture", "part", "user_account")
+TABLES = (
+    "trail_entry",
+    "revision_part",
+    "report",
+    "revision",
+    "channel",
+    "fixture",
+    "derating_profile_version",
+    "derating_profile",
+    "part",
+    "user_account",
+)
 PASSWORD = demo.DEMO_PASSWORD
 
 # Real argon2, cheap parameters: the tests sign in hundreds of times.

@@ -9,8 +9,9 @@ from sqlmodel import Session, select
 from starlette.routing import compile_path
 
 from app.web.main import route_table
-from app.web.models import Fixture, User
+from app.web.models import DeratingProfile, Fixture, User
 from app.web.permissions import ACTIONS
+from app.web.services import profiles
 
 from .conftest import K1, K2, K3, channel_id, form_values, latest_document, part_id, revision_ids
 
@@ -26,6 +27,9 @@ def _requests(app, role):
     with Session(app.state.engine) as db:
         sam = db.exec(select(User.id).where(User.name == "sam")).one()
         fid = db.exec(select(Fixture.id)).first()
+        lee = db.exec(select(User).where(User.name == "lee")).one()
+        existing = db.exec(select(DeratingProfile.id).where(DeratingProfile.name == "Matrix policy")).first()
+        prof = existing or profiles.create_profile(db, lee, "Matrix policy", "general", {}).id
     values = form_values(app, K1)
     k1_review = revision_ids(app, K1)[-1]  # dana's, in review in the demo
     k3_review = revision_ids(app, K3)[-1]  # sam's, in review
@@ -49,6 +53,16 @@ def _requests(app, role):
         ("GET", "/parts/new?kind=coil", "edit_library", {}),
         ("GET", f"/parts/{pid}/edit", "edit_library", {}),
         ("GET", "/admin/users", "manage_users", {}),
+        ("GET", "/profiles", "read", {}),
+        ("GET", f"/profiles/{prof}", "read", {}),
+        ("POST", "/profiles", "edit_profiles", {"data": {"name": f"P {role}", "preset": "general"}}),
+        (
+            "POST",
+            f"/profiles/{prof}/versions",
+            "edit_profiles",
+            {"data": {"voltage": "70 %", "note": f"by {role}"}},
+        ),
+        ("POST", f"/fixtures/{fid}/profile", "edit_profiles", {"data": {"profile": str(prof)}}),
         ("GET", f"/revisions/{rev}/review", "read", {}),
         ("GET", f"/revisions/{rev}/record", "read", {}),
         (

@@ -7,7 +7,7 @@ from fastapi.responses import RedirectResponse
 from markupsafe import Markup
 
 from ..deps import DB, FixtureEditor, Viewer
-from ..services import fixtures
+from ..services import fixtures, profiles
 from ..services.errors import InputProblems
 from ..templating import render
 
@@ -48,10 +48,26 @@ async def create_fixture(request: Request, db: DB, user: FixtureEditor):
     return RedirectResponse(f"/fixtures/{fixture.id}", status_code=303)
 
 
+def _profile_context(db, fixture) -> dict:
+    """The fixture's default derating profile and the choices for it."""
+    summaries = profiles.list_profiles(db)
+    current = next((s for s in summaries if s.profile.id == fixture.default_profile_id), None)
+    return {"profile_choices": summaries, "default_profile": current}
+
+
 @router.get("/fixtures/{fixture_id}")
-def fixture_page(request: Request, db: DB, user: Viewer, fixture_id: int):
+def fixture_page(request: Request, db: DB, user: Viewer, fixture_id: int, profile_saved: bool = False):
     [(fixture, channels)] = fixtures.overview(db, fixture_id)
-    return render(request, "fixture.html", fixture=fixture, channels=channels, errors={}, form={})
+    return render(
+        request,
+        "fixture.html",
+        fixture=fixture,
+        channels=channels,
+        errors={},
+        form={},
+        profile_saved=profile_saved,
+        **_profile_context(db, fixture),
+    )
 
 
 @router.post("/fixtures/{fixture_id}/channels")
@@ -71,6 +87,7 @@ async def create_channel(request: Request, db: DB, user: FixtureEditor, fixture_
             channels=channels,
             errors=dict(exc.problems),
             form=values,
+            **_profile_context(db, fixture),
         )
     return RedirectResponse(f"/channels/{channel.id}", status_code=303)
 

@@ -5,12 +5,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import datetime
 
-from sqlalchemy import and_, func
+from sqlalchemy import String, and_, cast, func
 from sqlmodel import Session, select
 
 from app.engine import ENGINE_VERSION
 
-from ..models import Channel, Fixture, Report, Revision, User
+from ..models import Channel, Fixture, Report, Revision, TrailHead, User
 from .errors import InputProblems, check_text, get_or_not_found
 from .reports import cached_report
 
@@ -98,7 +98,12 @@ def _status_columns():
 
 def _with_report(query):
     return query.join(User, User.id == Revision.author_id).outerjoin(
-        Report, and_(Report.content_hash == Revision.content_hash, Report.engine_version == ENGINE_VERSION)
+        Report,
+        and_(
+            Report.content_hash == Revision.content_hash,
+            Report.engine_version == ENGINE_VERSION,
+            Report.profile_key == func.coalesce(cast(Revision.profile_version_id, String), ""),
+        ),
     )
 
 
@@ -106,8 +111,10 @@ def _fill_missing(db: Session, rows: list[RevisionStatus]) -> None:
     """Reports not cached for this engine version yet (e.g. after an engine upgrade)."""
     for row in rows:
         if row.verdict is None:
-            document = db.exec(select(Revision.document).where(Revision.id == row.id)).one()
-            report = cached_report(db, row.content_hash, document)
+            document, version_id = db.exec(
+                select(Revision.document, Revision.profile_version_id).where(Revision.id == row.id)
+            ).one()
+            report = cached_report(db, row.content_hash, document, version_id)
             row.verdict, row.violations, row.marginals = report.verdict, report.violations, report.marginals
 
 
@@ -147,6 +154,9 @@ def overview_version(db: Session) -> tuple:
     (none is edited or deleted, and a revision's report depends only on its content), so the
     newest id of each is enough. One query, three index lookups."""
     newest = [select(func.max(table.id)).scalar_subquery() for table in (Fixture, Channel, Revision)]
+    # A hand-in fixes the profile version that judges a revision, which can change its verdict;
+    # every hand-in is a trail entry, so the trail's head counts it.
+    newest.append(select(TrailHead.seq).where(TrailHead.id == 1).scalar_subquery())
     return tuple(db.exec(select(*newest)).one())
 
 
