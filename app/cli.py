@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import sys
 from collections.abc import Callable
 from pathlib import Path
@@ -18,11 +19,36 @@ EXTRA_COMMANDS: list[Callable[[argparse._SubParsersAction], None]] = []
 
 
 class InputError(Exception):
-    """Bad input for a command: the lines say what and where. Exit code 2."""
+    """Bad input for a command: the lines say what and where. Exit code 2.
 
-    def __init__(self, lines: list[str]):
+    ``problems`` holds the same as (source, field, message) for the JSON output; a line that
+    names no field has field ""."""
+
+    def __init__(self, lines: list[str], problems: list[tuple[str, str, str]] | None = None):
         super().__init__("\n".join(lines))
         self.lines = lines
+        self.problems = problems if problems is not None else [("", "", line) for line in lines]
+
+    @classmethod
+    def about(cls, source: str, problems: list[tuple[str, str]]) -> InputError:
+        """Problems (field, message) with one source (a file name): lines read "source: field: message"."""
+        lines = [
+            f"{source}: {field}: {message}" if field else f"{source}: {message}"
+            for field, message in problems
+        ]
+        return cls(lines, [(source, field, message) for field, message in problems])
+
+    def as_json(self) -> str:
+        errors = [{"source": src, "field": field, "message": msg} for src, field, msg in self.problems]
+        return json.dumps({"format": "clampdown-errors/1", "errors": errors}, indent=2, ensure_ascii=False)
+
+
+def _split_problem(line: str) -> tuple[str, str]:
+    """'coil.inductance: "-3 mH" must be positive' -> ('coil.inductance', '"-3 mH" must be positive')."""
+    field, sep, message = line.partition(": ")
+    if sep and field and " " not in field:
+        return field, message
+    return "", line
 
 
 def load_design_file(path: str):
@@ -30,24 +56,50 @@ def load_design_file(path: str):
     try:
         text = sys.stdin.read() if path == "-" else Path(path).read_text(encoding="utf-8")
     except FileNotFoundError:
-        raise InputError([f"{path}: no such file"]) from None
+        raise InputError.about(path, [("", "no such file")]) from None
     except (OSError, UnicodeDecodeError) as exc:
-        raise InputError([f"{path}: cannot be read ({exc.__class__.__name__}: {exc})"]) from None
+        raise InputError.about(path, [("", f"cannot be read ({exc.__class__.__name__}: {exc})")]) from None
     try:
         document = json.loads(text)
     except json.JSONDecodeError as exc:
-        raise InputError([f"{path}: not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})"]) from None
+        raise InputError.about(
+            path, [("", f"not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})")]
+        ) from None
     try:
         return parse_design(document)
     except DesignError as exc:
-        raise InputError([f"{path}: {line}" for line in exc.problems]) from None
+        raise InputError.about(path, [_split_problem(line) for line in exc.problems]) from None
+
+
+def load_profile_file(path: str):
+    """Read a derating profile file (JSON, clampdown-profile/1), or raise InputError naming each bad field."""
+    from .engine.profile import ProfileError, profile_from_dict
+
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError.about(path, [("", "no such file")]) from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError.about(path, [("", f"cannot be read ({exc.__class__.__name__}: {exc})")]) from None
+    try:
+        values = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise InputError.about(
+            path, [("", f"not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})")]
+        ) from None
+    try:
+        return profile_from_dict(values)
+    except ProfileError as exc:
+        raise InputError.about(path, exc.problems) from None
 
 
 def _check(args: argparse.Namespace) -> int:
+    from .engine.profile import DEFAULT_PROFILE
     from .engine.text_report import render_table
 
+    profile = load_profile_file(args.profile) if args.profile else DEFAULT_PROFILE
     design = load_design_file(args.file)
-    report = evaluate(design)
+    report = evaluate(design, profile)
     if args.format == "json":
         print(json.dumps(report, indent=2, ensure_ascii=False))
     else:
@@ -70,7 +122,9 @@ def _netlist(args: argparse.Namespace) -> int:
 
     design = load_design_file(args.file)
     if design.clamp.kind == "none":
-        raise InputError([f'{args.file}: clamp.kind: "none" has no finite turn-off to simulate; add a clamp'])
+        raise InputError.about(
+            args.file, [("clamp.kind", '"none" has no finite turn-off to simulate; add a clamp')]
+        )
     text = netlist(design, args.corner)
     if args.output:
         Path(args.output).write_text(text, encoding="utf-8")
@@ -96,6 +150,12 @@ def build_parser() -> argparse.ArgumentParser:
     check.add_argument("file", help="design file (JSON, clampdown-design/1), or - for standard input")
     check.add_argument("--format", choices=("table", "json"), default="table")
     check.add_argument("--strict", action="store_true", help="exit 1 on marginal findings too")
+    check.add_argument(
+        "--profile",
+        metavar="FILE",
+        help="derating profile (JSON, clampdown-profile/1: name and the figures to change; "
+        "the rest are the general preset's)",
+    )
     check.set_defaults(run=_check)
 
     schema = sub.add_parser("schema", help="print the JSON Schema of the design file")
@@ -122,13 +182,24 @@ def _load_extra_commands() -> None:
 
 def main(argv: list[str] | None = None) -> int:
     _load_extra_commands()
-    args = build_parser().parse_args(argv)
     try:
-        return args.run(args)
-    except InputError as exc:
-        for line in exc.lines:
-            print(line, file=sys.stderr)
-        return 2
+        args = build_parser().parse_args(argv)
+        try:
+            code = args.run(args)
+        except InputError as exc:
+            if getattr(args, "format", None) == "json":
+                print(exc.as_json())
+            for line in exc.lines:
+                print(line, file=sys.stderr)
+            code = 2
+        sys.stdout.flush()  # a closed pipe shows here, not at interpreter exit
+        return code
+    except BrokenPipeError:
+        # The reader stopped early (`clampdown schema | head`): no traceback. Point standard
+        # output at /dev/null so the interpreter's final flush does not fail again.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 141  # 128 + SIGPIPE, as a shell reports a program ended by a closed pipe
 
 
 if __name__ == "__main__":

@@ -8,8 +8,10 @@ their own by the parts library, so a part is validated the same way everywhere.
 from __future__ import annotations
 
 from typing import Annotated, Any, Literal
+from urllib.parse import urlsplit
 
 from pydantic import (
+    AfterValidator,
     BaseModel,
     BeforeValidator,
     ConfigDict,
@@ -101,7 +103,30 @@ def _problem(message: str) -> PydanticCustomError:
 # ---------------------------------------------------------------- parts
 
 
-class Transistor(Model):
+def _web_link(value: str | None) -> str | None:
+    """A datasheet link: an absolute http or https URL, kept as typed."""
+    if value is None:
+        return None
+    parsed = urlsplit(value)
+    if parsed.scheme.lower() not in ("http", "https") or not parsed.netloc or any(c.isspace() for c in value):
+        raise _problem("is not a web link; allowed: an http:// or https:// URL")
+    return value
+
+
+class PartModel(Model):
+    """What identifies a part to a reader; no rule uses these (they are shown on the record)."""
+
+    maker_part: str | None = Field(None, max_length=100, description="the maker's part number")
+    package: str | None = Field(None, max_length=60, description="the package, e.g. SOT-23")
+    datasheet: Annotated[str | None, AfterValidator(_web_link)] = Field(
+        None, max_length=500, description="link to the datasheet (http or https)"
+    )
+
+
+PART_DETAILS = ("maker_part", "package", "datasheet")
+
+
+class Transistor(PartModel):
     """An NPN bipolar transistor, with the datasheet's guaranteed (worst-case) figures."""
 
     kind: Literal["npn"] = "npn"
@@ -124,7 +149,7 @@ class Transistor(Model):
         return self
 
 
-class Coil(Model):
+class Coil(PartModel):
     """A relay or solenoid coil."""
 
     name: str = Field(min_length=1, max_length=200)
@@ -147,7 +172,7 @@ class Coil(Model):
         return self
 
 
-class Diode(Model):
+class Diode(PartModel):
     """A rectifier diode. I_S, n and R_S are the SPICE diode parameters; I_S is fitted from
     the (vf, vf_at) point when absent."""
 
@@ -172,7 +197,7 @@ class Diode(Model):
         return self
 
 
-class Zener(Model):
+class Zener(PartModel):
     """A zener in series with the clamp diode. vz is specified at i_test (I_ZT)."""
 
     vz: PositiveVolts
@@ -182,7 +207,7 @@ class Zener(Model):
     i_test: PositiveAmps = Field(0.005, description="test current I_ZT at which vz holds")
 
 
-class Tvs(Model):
+class Tvs(PartModel):
     """A TVS diode from the switch node to ground."""
 
     v_breakdown: PositiveVolts = Field(description="minimum breakdown voltage V_BR at i_test")

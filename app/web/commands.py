@@ -46,14 +46,17 @@ def _demo(args: argparse.Namespace) -> int:
     settings = Settings(data_dir=data_dir, database_url=f"sqlite:///{os.path.join(data_dir, 'demo.sqlite3')}")
     settings = settings.resolved()
     engine = build_demo(settings.database_url, fresh=True, trail_key=settings.trail_key)
-    url = f"http://{args.host}:{args.port}/"
-    print(f"Clampdown demo on {url}  (a fresh database in {data_dir})")
+    if args.no_serve:
+        print(f"Demo database built in {data_dir} (not served; `clampdown demo` serves it).")
+    else:
+        print(f"Clampdown demo on http://{args.host}:{args.port}/  (a fresh database in {data_dir})")
     print("Sign in as one of (password for all: " + DEMO_PASSWORD + "):")
     for name, role in DEMO_USERS:
         print(f"  {name:8} {role}")
-    sys.stdout.flush()
     if args.no_serve:
         return 0
+    print("Press Ctrl+C to stop the server.")
+    sys.stdout.flush()
     uvicorn.run(create_app(settings, engine=engine), host=args.host, port=args.port, log_level="warning")
     return 0
 
@@ -81,15 +84,22 @@ def _user_add(args: argparse.Namespace) -> int:
     return 0
 
 
-def _trail_engine():
-    from .db import make_engine, migrate
-    from .services.trail import use_key
+def _database_exists(url) -> bool:
+    """Whether the database the URL names is there, without creating it (SQLite would)."""
+    from sqlalchemy import create_engine, inspect
 
-    settings = _settings()
-    engine = make_engine(settings.database_url)
-    use_key(engine, settings.trail_key)
-    migrate(engine, settings.trail_key)
-    return engine
+    if url.get_backend_name() == "sqlite":
+        path = url.database
+        if not path or path == ":memory:" or not os.path.isfile(path):
+            return False
+    probe = create_engine(url)
+    try:
+        with probe.connect() as connection:
+            return inspect(connection).has_table("trail_entry")
+    except Exception:  # cannot connect: the database is not there for us
+        return False
+    finally:
+        probe.dispose()
 
 
 def _read_anchor(path: str):
@@ -108,6 +118,32 @@ def _read_anchor(path: str):
         return parse_anchor(document)
     except ValueError as exc:
         raise InputError([f"--anchor {path}: {exc}"]) from None
+
+
+def _trail_engine():
+    """The configured database, refused (exit 2) when it is not there: checking must not create
+    a data directory or an empty database that then verifies as intact. Prints which one."""
+    from sqlalchemy.engine import make_url
+
+    from .config import Settings
+    from .db import make_engine, migrate
+    from .services.trail import use_key
+
+    url = make_url(Settings().database_url_or_default())
+    shown = url.render_as_string(hide_password=True)
+    print(f"database: {shown}", flush=True)
+    if not _database_exists(url):
+        raise InputError(
+            [
+                f"database {shown}: not found, or it holds no Clampdown trail; nothing was checked. "
+                "Set CLAMPDOWN_DATABASE_URL (or CLAMPDOWN_DATA_DIR) to the database to verify."
+            ]
+        )
+    settings = _settings()
+    engine = make_engine(url.render_as_string(hide_password=False))
+    use_key(engine, settings.trail_key)
+    migrate(engine, settings.trail_key)
+    return engine
 
 
 def _trail_verify(args: argparse.Namespace) -> int:

@@ -11,6 +11,13 @@ from pydantic_settings import BaseSettings, SettingsConfigDict
 REPO_ROOT = Path(__file__).resolve().parents[2]
 
 
+def shipped(name: str) -> Path:
+    """A directory the app reads at run time (templates, static, migrations, seed_data): inside the
+    installed package (setup.py maps each there), or at the top of a source checkout."""
+    installed = Path(__file__).resolve().parent / "_shipped" / name
+    return installed if installed.is_dir() else REPO_ROOT / name
+
+
 class Settings(BaseSettings):
     """CLAMPDOWN_DATA_DIR, CLAMPDOWN_DATABASE_URL, CLAMPDOWN_SECRET_KEY, CLAMPDOWN_SESSION_DAYS,
     CLAMPDOWN_TRAIL_KEY, CLAMPDOWN_CSV_IMPORT_MAX_BYTES, CLAMPDOWN_RECORD_CHECK_MAX_AGE."""
@@ -33,11 +40,15 @@ class Settings(BaseSettings):
     # Only for the screenshot script and tests; never set in production.
     cookie_secure: bool = False
 
+    def database_url_or_default(self) -> str:
+        """The database URL, or the SQLite file in the data directory when none is set."""
+        data_dir = self.data_dir.expanduser().resolve()
+        return normalise_database_url(self.database_url or f"sqlite:///{data_dir / 'clampdown.sqlite3'}")
+
     def resolved(self) -> Settings:
         """Fill the defaults that live in the data directory: the SQLite file and the secret key."""
         data_dir = self.data_dir.expanduser().resolve()
-        url = self.database_url or f"sqlite:///{data_dir / 'clampdown.sqlite3'}"
-        url = normalise_database_url(url)
+        url = self.database_url_or_default()
         key = self.secret_key or _kept_secret(data_dir)
         trail_key = self.trail_key or _kept_secret(data_dir, "trail_key")
         if url.startswith("sqlite"):

@@ -10,7 +10,7 @@ from alembic.config import Config
 from sqlalchemy import Engine, event
 from sqlmodel import Session, create_engine
 
-from .config import REPO_ROOT
+from .config import REPO_ROOT, shipped
 
 
 def make_engine(url: str) -> Engine:
@@ -37,8 +37,9 @@ def make_engine(url: str) -> Engine:
 
 
 def alembic_config(url: str) -> Config:
-    config = Config(str(REPO_ROOT / "alembic.ini"))
-    config.set_main_option("script_location", str(REPO_ROOT / "migrations"))
+    ini = REPO_ROOT / "alembic.ini"  # in a source checkout (logging for the alembic command)
+    config = Config(str(ini) if ini.is_file() else None)
+    config.set_main_option("script_location", str(shipped("migrations")))
     config.set_main_option("sqlalchemy.url", url.replace("%", "%%"))
     return config
 

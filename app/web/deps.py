@@ -10,6 +10,7 @@ from sqlalchemy import bindparam, select
 from sqlmodel import Session
 
 from .models import User
+from .permissions import ACTIONS, can, refusal
 from .security import CSRF_FIELD, CSRF_HEADER
 
 UNSAFE_METHODS = {"POST", "PUT", "PATCH", "DELETE"}
@@ -67,18 +68,25 @@ async def signed_in(user: Annotated[User | None, Depends(current_user)]) -> User
     return user
 
 
-def _role(*roles: str):
+def requires(action: str):
+    """A dependency for routes: the signed-in user, if they may do ``action`` (app/web/permissions.py)."""
+    if action not in ACTIONS:
+        raise ValueError(f"unknown action {action!r}")
+
     async def check(user: Annotated[User, Depends(signed_in)]) -> User:
-        if user.role not in roles:
-            raise Forbidden(f"this needs the role {' or '.join(roles)}; you are signed in as a {user.role}")
+        if not can(user, action):
+            raise Forbidden(refusal(user, action))
         return user
 
-    return check
+    return Annotated[User, Depends(check)]
 
 
-Viewer = Annotated[User, Depends(signed_in)]
-Designer = Annotated[User, Depends(_role("designer", "admin"))]
-Admin = Annotated[User, Depends(_role("admin"))]
+Viewer = requires("read")
+LibraryEditor = requires("edit_library")
+FixtureEditor = requires("set_up_fixtures")
+RevisionAuthor = requires("create_revision")
+ProfileEditor = requires("edit_profiles")
+UserManager = requires("manage_users")
 MaybeUser = Annotated[User | None, Depends(current_user)]
 
 

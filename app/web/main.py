@@ -4,14 +4,15 @@ from __future__ import annotations
 
 from fastapi import Depends, FastAPI, Request
 from fastapi.exceptions import RequestValidationError
-from fastapi.responses import JSONResponse, PlainTextResponse, RedirectResponse
+from fastapi.openapi.docs import get_swagger_ui_html
+from fastapi.responses import HTMLResponse, JSONResponse, PlainTextResponse, RedirectResponse
 from fastapi.staticfiles import StaticFiles
 from starlette.datastructures import MutableHeaders
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
-from .config import REPO_ROOT, Settings, get_settings
+from .config import Settings, get_settings, shipped
 from .db import make_engine
-from .deps import CsrfRefused, Forbidden, SignInRequired, csrf_protect
+from .deps import CsrfRefused, Forbidden, SignInRequired, csrf_protect, current_user
 from .security import COOKIE_NAME, SessionSigner
 from .services.errors import InputProblems, NotFound
 from .templating import FragmentCache, make_templates, render
@@ -64,7 +65,7 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
         version="0.1.0",
         description="Parts library, fixtures, channels and revisions of relay-driver designs, and their reviews.",
         dependencies=[Depends(csrf_protect)],
-        docs_url="/api/v1/docs",
+        docs_url=None,  # served below from the vendored assets in static/swagger-ui/
         openapi_url="/api/v1/openapi.json",
         redoc_url=None,
     )
@@ -78,13 +79,28 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
 
     use_key(app.state.engine, settings.trail_key)
     app.add_middleware(SessionCookie, signer=app.state.signer, secure=settings.cookie_secure)
-    app.mount("/static", StaticFiles(directory=str(REPO_ROOT / "static")), name="static")
+    app.mount("/static", StaticFiles(directory=str(shipped("static"))), name="static")
 
-    from .routes import admin, api, auth, pages, parts, review, revisions
+    from .routes import admin, api, auth, pages, parts, profiles, review, revisions
 
-    for module in (auth, pages, revisions, review, parts, admin):
+    for module in (auth, pages, revisions, review, parts, profiles, admin):
         app.include_router(module.router)
     app.include_router(api.router, prefix="/api/v1")
+
+    @app.get("/api/v1/docs", include_in_schema=False)
+    def api_docs() -> HTMLResponse:
+        """The API documentation UI, from vendored files (works offline; see static/VENDORED.md)."""
+        return get_swagger_ui_html(
+            openapi_url="/api/v1/openapi.json",
+            title="Clampdown API",
+            swagger_js_url="/static/swagger-ui/swagger-ui-bundle.js",
+            swagger_css_url="/static/swagger-ui/swagger-ui.css",
+            swagger_favicon_url="/static/swagger-ui/favicon-32x32.png",
+        )
+
+    @app.get("/docs", include_in_schema=False)
+    def docs_redirect() -> RedirectResponse:
+        return RedirectResponse("/api/v1/docs", status_code=307)
 
     @app.get("/healthz", include_in_schema=False)
     def healthz() -> PlainTextResponse:
@@ -150,6 +166,10 @@ def _install_error_handlers(app: FastAPI) -> None:
     async def _http(request: Request, exc: StarletteHTTPException):
         if _wants_json(request):
             return JSONResponse({"detail": exc.detail}, status_code=exc.status_code)
+        if not hasattr(
+            request.state, "user"
+        ):  # no route ran (an unknown path): the page's navigation needs the user
+            await current_user(request)
         return _error_page(request, exc.status_code, str(exc.detail), [])
 
 

@@ -43,9 +43,37 @@ class Part(SQLModel, table=True):
     name: str = Field(max_length=200)
     params: dict = Field(default_factory=dict, sa_column=Column(JSON, nullable=False))
     notes: str = Field(default="", max_length=5000)
+    # For the reader (the part page and the record); copied into a revision with the part.
+    maker_part: str = Field(default="", max_length=100, sa_column_kwargs={"server_default": ""})
+    package: str = Field(default="", max_length=60, sa_column_kwargs={"server_default": ""})
+    datasheet: str = Field(default="", max_length=500, sa_column_kwargs={"server_default": ""})
     archived: bool = False
     created_at: datetime = _when()
     updated_at: datetime = _when()
+
+
+class DeratingProfile(SQLModel, table=True):
+    """A team's named derating profile. Its figures live in versions, never edited in place."""
+
+    __tablename__ = "derating_profile"
+    id: int | None = Field(default=None, primary_key=True)
+    name: str = Field(max_length=120, unique=True)
+    created_at: datetime = _when()
+
+
+class DeratingProfileVersion(SQLModel, table=True):
+    """One version of a profile's figures (app.engine.profile.FIGURES). Append-only: an edit adds
+    a version; a handed-in revision keeps the version that judged it."""
+
+    __tablename__ = "derating_profile_version"
+    __table_args__ = (UniqueConstraint("profile_id", "version", name="uq_profile_version"),)
+    id: int | None = Field(default=None, primary_key=True)
+    profile_id: int = Field(foreign_key="derating_profile.id", index=True)
+    version: int
+    figures: dict = Field(sa_column=Column(JSON, nullable=False))
+    note: str = Field(default="", max_length=2000)
+    author_id: int = Field(foreign_key="user_account.id")
+    created_at: datetime = _when()
 
 
 class Fixture(SQLModel, table=True):
@@ -55,6 +83,8 @@ class Fixture(SQLModel, table=True):
     name: str = Field(max_length=200, unique=True)
     description: str = Field(default="", max_length=5000)
     created_at: datetime = _when()
+    # The profile its revisions are judged by (its newest version at hand-in); none: built-in.
+    default_profile_id: int | None = Field(default=None, foreign_key="derating_profile.id")
 
 
 class Channel(SQLModel, table=True):
@@ -86,6 +116,8 @@ class Revision(SQLModel, table=True):
     created_at: datetime = _when()
     # The workflow state (app.signoff.workflow.STATES); changed only through services/review.py.
     state: str = Field(default="draft", max_length=20, sa_column_kwargs={"server_default": "draft"})
+    # The derating profile version that judges it, fixed when it is handed in; none: built-in.
+    profile_version_id: int | None = Field(default=None, foreign_key="derating_profile_version.id")
 
 
 class RevisionPart(SQLModel, table=True):
@@ -100,10 +132,16 @@ class RevisionPart(SQLModel, table=True):
 class Report(SQLModel, table=True):
     """The engine's report for one design content hash and engine version (a cache)."""
 
-    __table_args__ = (UniqueConstraint("content_hash", "engine_version", name="uq_report_hash_version"),)
+    __table_args__ = (
+        UniqueConstraint(
+            "content_hash", "engine_version", "profile_key", name="uq_report_hash_version_profile"
+        ),
+    )
     id: int | None = Field(default=None, primary_key=True)
     content_hash: str = Field(max_length=64)
     engine_version: str = Field(max_length=20)
+    # Which profile judged it: "" the built-in default, else the profile version's id.
+    profile_key: str = Field(default="", max_length=20, sa_column_kwargs={"server_default": ""})
     verdict: str = Field(max_length=20)
     violations: int
     marginals: int
@@ -163,10 +201,20 @@ class ImmutableRevisionError(RuntimeError):
     pass
 
 
+@event.listens_for(DeratingProfileVersion, "before_update")
+def _guard_profile_version(mapper, connection, target):  # noqa: ARG001
+    raise ImmutableRevisionError("a profile version is never changed; save a new version instead")
+
+
+@event.listens_for(DeratingProfileVersion, "before_delete")
+def _guard_profile_version_delete(mapper, connection, target):  # noqa: ARG001
+    raise ImmutableRevisionError("a profile version is never deleted")
+
+
 # A draft's document may be replaced by its author (content_hash follows it); the state moves
 # through the workflow. Anything else about a saved revision never changes.
 _STATE_ONLY = {"state"}
-_DRAFT_REPLACEABLE = {"state", "document", "content_hash", "change_note", "source"}
+_DRAFT_REPLACEABLE = {"state", "document", "content_hash", "change_note", "source", "profile_version_id"}
 
 
 @event.listens_for(Revision, "before_update")

@@ -12,11 +12,13 @@ from jinja2 import Environment, FileSystemLoader
 from markupsafe import Markup
 
 from app.engine import ENGINE_VERSION
+from app.engine.profile import FIGURES
 from app.engine.rules import RULES
 from app.engine.units import format_si
 from app.signoff.workflow import STATE_LABELS
 
-from .config import REPO_ROOT
+from .config import shipped
+from .permissions import can
 
 # Our own status wording: the label says it in words, the mark says it in shape, so neither
 # colour nor a legend is needed to read a finding (print, greyscale, colour-blind readers).
@@ -54,6 +56,21 @@ def css_string(text: str) -> Markup:
     return Markup('"' + "".join(out) + '"')
 
 
+def plural(count: int, noun: str, many: str | None = None) -> str:
+    """'1 comment', '2 comments', '0 comments' (``many`` for irregular plurals)."""
+    return f"{count} {noun if count == 1 else (many or noun + 's')}"
+
+
+def figure(value: float, key: str, for_input: bool = False) -> str:
+    """A derating profile's figure as people write it: "80 %", "125 °C", "2×" (inputs: no ×)."""
+    kind = FIGURES[key][1]
+    if kind in ("fraction", "margin"):
+        return f"{value * 100:g} %"
+    if kind == "celsius":
+        return f"{value:g}" if for_input else f"{value:g} °C"
+    return f"{value:g}" if for_input else f"{value:g}×"
+
+
 def formula(rule_id: str) -> str:
     registered = RULES.get(rule_id)
     return registered.formula if registered else ""
@@ -61,12 +78,12 @@ def formula(rule_id: str) -> str:
 
 def make_templates() -> Jinja2Templates:
     env = Environment(
-        loader=FileSystemLoader(str(REPO_ROOT / "templates")),
+        loader=FileSystemLoader(str(shipped("templates"))),
         autoescape=True,
         trim_blocks=True,
         lstrip_blocks=True,
     )
-    env.filters.update(si=si, when=when, css_string=css_string)
+    env.filters.update(si=si, when=when, css_string=css_string, plural=plural, figure=figure)
     from .services import findings_view, record
     from .services.queues import age
     from .services.review import TEXT_NAMES
@@ -76,6 +93,7 @@ def make_templates() -> Jinja2Templates:
         STATE_LABELS=STATE_LABELS,
         formula=formula,
         ENGINE_VERSION=ENGINE_VERSION,
+        can=can,
         age=age,
         pdf_available=lambda: record.pdf_available(),  # looked up at call time (tests swap it)
         corner_words=findings_view.corner_words,

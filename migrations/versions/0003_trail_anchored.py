@@ -78,8 +78,8 @@ def downgrade() -> None:
             for kind in ("insert", "update", "delete"):
                 connection.execute(sa.text(f"DROP TRIGGER IF EXISTS data_version_{table}_{kind}"))
     op.drop_table("data_version")
-    with op.batch_alter_table("trail_head") as batch_op:
-        batch_op.drop_column("mac")
-    with op.batch_alter_table("trail_entry") as batch_op:
-        batch_op.drop_column("mac")
+    # Plain DROP COLUMN (SQLite 3.35 and later): a batch copy would reflect every table the
+    # trail refers to, and fail on references a later downgrade left behind.
+    op.drop_column("trail_head", "mac")
+    op.drop_column("trail_entry", "mac")
     create_guards(connection, version=1)

@@ -24,7 +24,18 @@ from app.web.trail_guard import create_guards, drop_guards  # noqa: E402
 
 PG_URL = os.environ.get("CLAMPDOWN_TEST_DATABASE_URL")
 BACKENDS = ["sqlite"] + (["postgresql"] if PG_URL else [])
-TABLES = ("trail_entry", "revision_part", "report", "revision", "channel", "fixture", "part", "user_account")
+TABLES = (
+    "trail_entry",
+    "revision_part",
+    "report",
+    "revision",
+    "channel",
+    "fixture",
+    "derating_profile_version",
+    "derating_profile",
+    "part",
+    "user_account",
+)
 PASSWORD = demo.DEMO_PASSWORD
 TRAIL_KEY = "test-trail-key"
 
@@ -90,7 +101,7 @@ def app(engine, tmp_path):
 @pytest.fixture
 def world(app):
     """The demo scenario: parts, users lee (reviewer), dana and sam (designers), ari (admin),
-    the fixture with four channels and their revisions."""
+    the fixture with five channels and their revisions."""
     from sqlmodel import Session
 
     with Session(app.state.engine, expire_on_commit=False) as db:

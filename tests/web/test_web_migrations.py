@@ -100,3 +100,30 @@ def test_upgrading_a_trail_made_before_macs_seals_it_with_the_key_given(empty_da
         assert check.ok, check.summary
     else:
         assert not check.ok and "entry 1: has no key MAC" in check.summary
+
+
+def test_every_versioned_table_still_bumps_the_data_version_at_head(empty_database):
+    """A later migration that rebuilds a table (SQLite's batch mode copies it) must not lose the
+    triggers that tell kept pages and the record's kept verification that something changed."""
+    from app.web.trail_guard import VERSIONED_TABLES, data_version
+
+    engine = make_engine(empty_database)
+    migrate(engine)
+    with engine.begin() as connection:
+        for table in VERSIONED_TABLES:
+            before = data_version(connection)
+            # An UPDATE that matches no row still fires statement triggers on PostgreSQL; on
+            # SQLite row triggers need a row, so count on an INSERT-free check: the trigger list.
+            if connection.dialect.name == "sqlite":
+                names = {
+                    row[0]
+                    for row in connection.execute(
+                        text("SELECT name FROM sqlite_master WHERE type = 'trigger' AND tbl_name = :t"),
+                        {"t": table},
+                    )
+                }
+                assert {f"data_version_{table}_{op}" for op in ("insert", "update", "delete")} <= names, table
+            else:
+                connection.execute(text(f"UPDATE {table} SET id = id WHERE false"))
+                assert data_version(connection) > before, table
+    engine.dispose()

@@ -50,7 +50,9 @@ def test_a_used_part_is_archived_and_an_unused_one_deleted(designer, world):
 
 def test_csv_export_imports_back_unchanged(designer):
     exported = designer.get("/parts/export.csv?kind=coil").text
-    assert exported.splitlines()[0].startswith("name,notes,v_nominal,r_coil,tolerance")
+    assert exported.splitlines()[0].startswith(
+        "name,notes,maker_part,package,datasheet,v_nominal,r_coil,tolerance"
+    )
     before = designer.get("/api/v1/parts?kind=coil").json()
     response = designer.post("/parts/import", data={"kind": "coil"}, files={"file": ("c.csv", exported)})
     assert response.status_code == 200 and "0 new, 4 updated" in response.text

@@ -76,8 +76,15 @@ def test_download_pdf_gives_a_pdf_or_points_to_the_browser(world, reviewer):
     try:
         import weasyprint  # noqa: F401
     except (ImportError, OSError):
-        assert response.status_code == 501
-        assert "Print → Save as PDF" in response.text
+        # No server PDF: the route sends the reader to the printed record, never to an error page,
+        # and neither the record nor the review page offers the download.
+        assert response.status_code == 303
+        assert response.headers["location"] == f"/revisions/{rev}/record"
+        page = reviewer.get(response.headers["location"])
+        assert page.status_code == 200 and "Print → Save as PDF" in page.text
+        assert "record.pdf" not in page.text
+        assert "record.pdf" not in reviewer.get(f"/revisions/{rev}/review").text
+        assert reviewer.get("/revisions/999999/record.pdf").status_code == 404
         return
     assert response.status_code == 200
     assert response.content.startswith(b"%PDF")

@@ -5,7 +5,7 @@ from __future__ import annotations
 from fastapi import APIRouter, Request
 from fastapi.responses import RedirectResponse
 
-from ..deps import DB, Admin
+from ..deps import DB, UserManager
 from ..models import ROLES
 from ..services import users
 from ..services.errors import InputProblems
@@ -27,12 +27,12 @@ def _page(request, db, errors=None, form=None, status_code=200):
 
 
 @router.get("/admin/users")
-def users_page(request: Request, db: DB, user: Admin):
+def users_page(request: Request, db: DB, user: UserManager):
     return _page(request, db)
 
 
 @router.post("/admin/users")
-async def create_user(request: Request, db: DB, user: Admin):
+async def create_user(request: Request, db: DB, user: UserManager):
     form = await request.form()
     values = {k: str(form.get(k, "")) for k in ("name", "password", "role")}
     try:
@@ -43,7 +43,7 @@ async def create_user(request: Request, db: DB, user: Admin):
 
 
 @router.post("/admin/users/{user_id}")
-async def update_user(request: Request, db: DB, user: Admin, user_id: int):
+async def update_user(request: Request, db: DB, user: UserManager, user_id: int):
     form = await request.form()
     try:
         users.update_user(db, user_id, str(form.get("role", "")), form.get("active") == "on", user.id)

@@ -10,8 +10,9 @@ from fastapi import APIRouter, Body, Request
 from pydantic import AfterValidator, BaseModel, Field
 
 from app.engine import ENGINE_VERSION
+from app.engine.design import PART_DETAILS
 
-from ..deps import DB, Designer, MaybeUser, Viewer
+from ..deps import DB, FixtureEditor, LibraryEditor, MaybeUser, RevisionAuthor, Viewer
 from ..services import fixtures, parts, review, revisions, users
 from ..services.errors import InputProblems
 from ..services.reports import evaluate_document
@@ -73,12 +74,18 @@ class PartIn(BaseModel):
     name: str
     params: dict[str, str | float | int | None] = Field(default_factory=dict)
     notes: str = ""
+    maker_part: str = ""
+    package: str = ""
+    datasheet: str = Field("", description="link to the datasheet: an http:// or https:// URL, or empty")
 
 
 class PartUpdate(BaseModel):
     name: str
     params: dict[str, str | float | int | None] = Field(default_factory=dict)
     notes: str = ""
+    maker_part: str | None = Field(None, description="left out: unchanged")
+    package: str | None = Field(None, description="left out: unchanged")
+    datasheet: str | None = Field(None, description="left out: unchanged; else an http(s) URL or empty")
 
 
 class PartOut(BaseModel):
@@ -87,13 +94,18 @@ class PartOut(BaseModel):
     name: str
     params: dict[str, Any]
     notes: str
+    maker_part: str
+    package: str
+    datasheet: str
     archived: bool
     updated_at: UtcDatetime
 
 
 def _part(p) -> PartOut:
     return PartOut(
-        **p.model_dump(include={"id", "kind", "name", "params", "notes", "archived", "updated_at"})
+        **p.model_dump(
+            include={"id", "kind", "name", "params", "notes", "archived", "updated_at", *PART_DETAILS}
+        )
     )
 
 
@@ -103,8 +115,9 @@ def list_parts(db: DB, user: Viewer, kind: str | None = None, q: str = "", archi
 
 
 @router.post("/parts", response_model=PartOut, status_code=201)
-def create_part(db: DB, user: Designer, body: PartIn):
-    return _part(parts.create_part(db, body.kind, body.name, body.params, body.notes))
+def create_part(db: DB, user: LibraryEditor, body: PartIn):
+    details = {key: getattr(body, key) for key in PART_DETAILS}
+    return _part(parts.create_part(db, body.kind, body.name, body.params, body.notes, details))
 
 
 @router.get("/parts/{part_id}", response_model=PartOut)
@@ -113,12 +126,16 @@ def get_part(db: DB, user: Viewer, part_id: int):
 
 
 @router.put("/parts/{part_id}", response_model=PartOut)
-def update_part(db: DB, user: Designer, part_id: int, body: PartUpdate):
-    return _part(parts.update_part(db, part_id, body.name, body.params, body.notes))
+def update_part(db: DB, user: LibraryEditor, part_id: int, body: PartUpdate):
+    part = parts.get_part(db, part_id)
+    details = {
+        key: getattr(part, key) if getattr(body, key) is None else getattr(body, key) for key in PART_DETAILS
+    }
+    return _part(parts.update_part(db, part_id, body.name, body.params, body.notes, details))
 
 
 @router.delete("/parts/{part_id}")
-def remove_part(db: DB, user: Designer, part_id: int) -> dict[str, str]:
+def remove_part(db: DB, user: LibraryEditor, part_id: int) -> dict[str, str]:
     """Deletes a part no revision used; archives one that a revision used."""
     return {"outcome": parts.remove_part(db, part_id)}
 
@@ -202,7 +219,7 @@ def list_fixtures(db: DB, user: Viewer):
 
 
 @router.post("/fixtures", response_model=FixtureOut, status_code=201)
-def create_fixture(db: DB, user: Designer, body: FixtureIn):
+def create_fixture(db: DB, user: FixtureEditor, body: FixtureIn):
     return _fixture(fixtures.create_fixture(db, body.name, body.description), [])
 
 
@@ -213,7 +230,7 @@ def get_fixture(db: DB, user: Viewer, fixture_id: int):
 
 
 @router.post("/fixtures/{fixture_id}/channels", response_model=ChannelOut, status_code=201)
-def create_channel(db: DB, user: Designer, fixture_id: int, body: ChannelIn):
+def create_channel(db: DB, user: FixtureEditor, fixture_id: int, body: ChannelIn):
     return _channel(fixtures.create_channel(db, fixture_id, body.name, body.load, body.mains_load))
 
 
@@ -278,7 +295,7 @@ def _revision(db, view) -> RevisionOut:
 
 
 @router.post("/channels/{channel_id}/revisions", response_model=RevisionOut, status_code=201)
-def create_revision(db: DB, user: Designer, channel_id: int, body: RevisionIn):
+def create_revision(db: DB, user: RevisionAuthor, channel_id: int, body: RevisionIn):
     """Store a design file as the channel's next revision (immutable from then on)."""
     revision = revisions.create_revision(db, channel_id, body.document, user, body.change_note, source="api")
     return _revision(db, revisions.revision_view(db, revision.id))

@@ -5,8 +5,8 @@ from __future__ import annotations
 from fastapi import APIRouter, Request
 from markupsafe import Markup
 
-from ..deps import DB, Designer, Viewer
-from ..services import fixtures, queues
+from ..deps import DB, FixtureEditor, Viewer
+from ..services import fixtures, profiles, queues
 from ..services.errors import InputProblems
 from ..templating import redirect_done, render
 
@@ -48,7 +48,7 @@ def home(request: Request, db: DB, user: Viewer):
 
 
 @router.post("/fixtures")
-async def create_fixture(request: Request, db: DB, user: Designer):
+async def create_fixture(request: Request, db: DB, user: FixtureEditor):
     form = await request.form()
     values = {k: str(form.get(k, "")) for k in ("name", "description")}
     try:
@@ -58,21 +58,37 @@ async def create_fixture(request: Request, db: DB, user: Designer):
             request,
             "home.html",
             status_code=422,
-            overview=fixtures.overview(db),
+            overview_html=_overview_html(request, db),
             errors=dict(exc.problems),
             form=values,
         )
     return redirect_done(request, f"/fixtures/{fixture.id}", f"Fixture “{fixture.name}” added.")
 
 
+def _profile_context(db, fixture) -> dict:
+    """The fixture's default derating profile and the choices for it."""
+    summaries = profiles.list_profiles(db)
+    current = next((s for s in summaries if s.profile.id == fixture.default_profile_id), None)
+    return {"profile_choices": summaries, "default_profile": current}
+
+
 @router.get("/fixtures/{fixture_id}")
-def fixture_page(request: Request, db: DB, user: Viewer, fixture_id: int):
+def fixture_page(request: Request, db: DB, user: Viewer, fixture_id: int, profile_saved: bool = False):
     [(fixture, channels)] = fixtures.overview(db, fixture_id)
-    return render(request, "fixture.html", fixture=fixture, channels=channels, errors={}, form={})
+    return render(
+        request,
+        "fixture.html",
+        fixture=fixture,
+        channels=channels,
+        errors={},
+        form={},
+        profile_saved=profile_saved,
+        **_profile_context(db, fixture),
+    )
 
 
 @router.post("/fixtures/{fixture_id}/channels")
-async def create_channel(request: Request, db: DB, user: Designer, fixture_id: int):
+async def create_channel(request: Request, db: DB, user: FixtureEditor, fixture_id: int):
     form = await request.form()
     values = {k: str(form.get(k, "")) for k in ("name", "load")}
     mains = form.get("mains_load") in ("on", "true", "1")
@@ -88,6 +104,7 @@ async def create_channel(request: Request, db: DB, user: Designer, fixture_id: i
             channels=channels,
             errors=dict(exc.problems),
             form=values,
+            **_profile_context(db, fixture),
         )
     return redirect_done(request, f"/channels/{channel.id}", f"Channel “{channel.name}” added.")
 

@@ -6,7 +6,9 @@ from __future__ import annotations
 from fastapi import APIRouter, Request
 from fastapi.responses import RedirectResponse, Response
 
-from ..deps import DB, Designer, Viewer
+from app.engine.design import PART_DETAILS
+
+from ..deps import DB, LibraryEditor, Viewer
 from ..models import PART_KINDS
 from ..services import parts
 from ..services.documents import SLOT_KINDS
@@ -72,29 +74,33 @@ def _form(kind: str, part=None, values=None, errors=None, status_code=200, reque
 
 
 @router.get("/parts/new")
-def new_part_page(request: Request, user: Designer, kind: str = "transistor"):
+def new_part_page(request: Request, user: LibraryEditor, kind: str = "transistor"):
     return _form(_kind(kind) or "transistor", request=request)
 
 
 def _values(form, kind: str) -> dict[str, str]:
-    names = ["name", "notes"] + [name for name, _ in parts.param_fields(kind)]
+    names = ["name", "notes", *PART_DETAILS] + [name for name, _ in parts.param_fields(kind)]
     return {name: str(form.get(name, "")) for name in names}
 
 
 def _params(values: dict[str, str]) -> dict[str, str]:
-    return {k: v for k, v in values.items() if k not in ("name", "notes")}
+    return {k: v for k, v in values.items() if k not in ("name", "notes", *PART_DETAILS)}
+
+
+def _details(values: dict[str, str]) -> dict[str, str]:
+    return {k: values[k] for k in PART_DETAILS}
 
 
 @router.post("/parts")
-async def create_part(request: Request, db: DB, user: Designer):
+async def create_part(request: Request, db: DB, user: LibraryEditor):
     form = await request.form()
     kind = _kind(str(form.get("kind", ""))) or "transistor"
     values = _values(form, kind)
     try:
-        part = parts.create_part(db, kind, values["name"], _params(values), values["notes"])
+        part = parts.create_part(db, kind, values["name"], _params(values), values["notes"], _details(values))
     except InputProblems as exc:
         return _form(kind, values=values, errors=dict(exc.problems), status_code=422, request=request)
-    return redirect_done(request, f"/parts?kind={part.kind}", f"Part “{part.name}” added to the library.")
+    return redirect_done(request, f"/parts/{part.id}", f"Part “{part.name}” added to the library.")
 
 
 @router.get("/parts/export.csv")
@@ -108,7 +114,7 @@ def export_parts(db: DB, user: Viewer, kind: str):
 
 
 @router.post("/parts/import")
-async def import_parts(request: Request, db: DB, user: Designer):
+async def import_parts(request: Request, db: DB, user: LibraryEditor):
     form = await request.form()
     kind = _kind(str(form.get("kind", ""))) or "transistor"
     upload = form.get("file")
@@ -149,37 +155,59 @@ async def import_parts(request: Request, db: DB, user: Designer):
     )
 
 
-@router.get("/parts/{part_id}/edit")
-def edit_part_page(request: Request, db: DB, user: Designer, part_id: int):
+@router.get("/parts/{part_id}")
+def part_page(request: Request, db: DB, user: Viewer, part_id: int, saved: bool = False):
+    """One part for everyone signed in: its details, parameters, notes and the revisions that froze it."""
     part = parts.get_part(db, part_id)
-    values = {"name": part.name, "notes": part.notes, **{k: str(v) for k, v in part.params.items()}}
+    return render(
+        request,
+        "part.html",
+        part=part,
+        title=parts.KIND_TITLES[part.kind],
+        fields=parts.param_fields(part.kind),
+        used_by=parts.used_by(db, part_id),
+        saved=saved,
+    )
+
+
+@router.get("/parts/{part_id}/edit")
+def edit_part_page(request: Request, db: DB, user: LibraryEditor, part_id: int):
+    part = parts.get_part(db, part_id)
+    values = {
+        "name": part.name,
+        "notes": part.notes,
+        **{k: getattr(part, k) for k in PART_DETAILS},
+        **{k: str(v) for k, v in part.params.items()},
+    }
     return _form(part.kind, part=part, values=values, request=request)
 
 
 @router.post("/parts/{part_id}")
-async def update_part(request: Request, db: DB, user: Designer, part_id: int):
+async def update_part(request: Request, db: DB, user: LibraryEditor, part_id: int):
     part = parts.get_part(db, part_id)
     values = _values(await request.form(), part.kind)
     try:
-        saved = parts.update_part(db, part_id, values["name"], _params(values), values["notes"])
+        saved = parts.update_part(
+            db, part_id, values["name"], _params(values), values["notes"], _details(values)
+        )
     except InputProblems as exc:
         return _form(
             part.kind, part=part, values=values, errors=dict(exc.problems), status_code=422, request=request
         )
     name = saved.name
     return redirect_done(
-        request, f"/parts?kind={part.kind}", f"Part “{name}” saved; revisions keep the copies they froze."
+        request, f"/parts/{part_id}", f"Part “{name}” saved; revisions keep the copies they froze."
     )
 
 
 @router.post("/parts/{part_id}/remove")
-def remove_part(db: DB, user: Designer, part_id: int):
+def remove_part(db: DB, user: LibraryEditor, part_id: int):
     kind = parts.get_part(db, part_id).kind
     outcome = parts.remove_part(db, part_id)
     return RedirectResponse(f"/parts?kind={kind}&removed={outcome}", status_code=303)
 
 
 @router.post("/parts/{part_id}/restore")
-def restore_part(db: DB, user: Designer, part_id: int):
+def restore_part(db: DB, user: LibraryEditor, part_id: int):
     part = parts.restore_part(db, part_id)
     return RedirectResponse(f"/parts?kind={part.kind}", status_code=303)

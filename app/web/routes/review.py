@@ -13,7 +13,7 @@ from fastapi import APIRouter, File, Form, Request, UploadFile
 from fastapi.responses import RedirectResponse, Response
 
 from ..deps import DB, Viewer
-from ..services import record, review
+from ..services import record, review, revisions
 from ..services.errors import InputProblems
 from ..templating import redirect_done, render
 
@@ -114,22 +114,15 @@ def _record(request: Request, db, revision_id: int, bounded: bool = False) -> di
 
 @router.get("/revisions/{revision_id}/record.pdf")
 def record_pdf(request: Request, db: DB, user: Viewer, revision_id: int):
+    if not record.pdf_available():
+        # No server PDF here: the printed record itself, for the browser's Print → Save as PDF.
+        revisions.get_revision(db, revision_id)  # an unknown revision is still a 404
+        return RedirectResponse(f"/revisions/{revision_id}/record", status_code=303)
     context = _record(request, db, revision_id, bounded=True)
     html = request.app.state.templates.get_template("record.html").render(**context, pdf=True)
     pdf = record.render_pdf(html, base_url=str(request.base_url))
     if pdf is None:
-        return render(
-            request,
-            "error.html",
-            status_code=501,
-            title="PDF not available here",
-            lines=[
-                'This server cannot make PDFs (WeasyPrint is not installed: pip install ".[pdf]", '
-                "which needs the Pango library).",
-                f"Open the printed record (/revisions/{revision_id}/record) and use the browser's "
-                "Print → Save as PDF; the page is laid out for A4 and Letter.",
-            ],
-        )
+        return RedirectResponse(f"/revisions/{revision_id}/record", status_code=303)
     name = f"record-{context['view'].channel.id}-rev-{context['view'].revision.label}.pdf"
     return Response(
         pdf, media_type="application/pdf", headers={"Content-Disposition": f'attachment; filename="{name}"'}

@@ -10,7 +10,8 @@ from markupsafe import Markup
 
 from app.engine import ENGINE_VERSION, DesignError
 
-from ..deps import DB, Designer, Viewer
+from ..deps import DB, RevisionAuthor, Viewer
+from ..permissions import can
 from ..services import findings_view, fixtures, record, revision_form, revisions, trail
 from ..services.documents import canonical_json
 from ..services.errors import InputProblems
@@ -27,7 +28,7 @@ async def revision_page(request: Request, db: DB, user: Viewer, revision_id: int
     # with (which depends on other revisions): the data version changes with any of them, the
     # engine version with the report. The actions offered depend on who looks and carry the
     # session's CSRF token, so the role and the token are part of the key; so is the sort order.
-    can_edit = user.role in ("designer", "admin")
+    can_edit = can(user, "create_revision")
     token = request.app.state.signer.csrf_token(request.state.session)
     sort = findings_view.sort_key(sort)
     key = ("revision", revision_id, can_edit, user.id, token, sort, trail.data_version(db), ENGINE_VERSION)
@@ -87,7 +88,7 @@ def _preview(db, values: dict[str, str]) -> tuple[dict | None, dict[str, list[st
 
 
 @router.get("/channels/{channel_id}/new")
-def new_revision_page(request: Request, db: DB, user: Designer, channel_id: int):
+def new_revision_page(request: Request, db: DB, user: RevisionAuthor, channel_id: int):
     channel = fixtures.get_channel(db, channel_id)
     latest = revisions.latest_revision(db, channel_id)
     if latest is not None:
@@ -107,7 +108,7 @@ def new_revision_page(request: Request, db: DB, user: Designer, channel_id: int)
 
 
 @router.post("/channels/{channel_id}/preview")
-async def preview(request: Request, db: DB, user: Designer, channel_id: int):
+async def preview(request: Request, db: DB, user: RevisionAuthor, channel_id: int):
     values = revision_form.values_from_form(await request.form())
     report, errors = _preview(db, values)
     context = _form_context(db, channel_id, values, errors)
@@ -118,7 +119,7 @@ async def preview(request: Request, db: DB, user: Designer, channel_id: int):
 
 
 @router.post("/channels/{channel_id}/revisions")
-async def save_revision(request: Request, db: DB, user: Designer, channel_id: int):
+async def save_revision(request: Request, db: DB, user: RevisionAuthor, channel_id: int):
     form = await request.form()
     values = revision_form.values_from_form(form)
     values["change_note"] = str(form.get("change_note", "")).strip()
@@ -142,7 +143,7 @@ MAX_UPLOAD = 1_000_000
 
 
 @router.post("/channels/{channel_id}/upload")
-async def upload_revision(request: Request, db: DB, user: Designer, channel_id: int):
+async def upload_revision(request: Request, db: DB, user: RevisionAuthor, channel_id: int):
     form = await request.form()
     upload = form.get("file")
     change_note = str(form.get("change_note", ""))

@@ -5,6 +5,7 @@ from __future__ import annotations
 import re
 from typing import Any
 
+from app.engine.design import PART_DETAILS
 from app.signoff.canonical import canonical_json as canonical_json  # re-exported
 from app.signoff.canonical import sha256_hex
 
@@ -42,6 +43,9 @@ NAMED_KINDS = {"transistor", "coil", "diode"}
 def part_document(part: Part) -> dict:
     """The frozen copy of a library part as it appears inside a design file."""
     body = dict(part.params)
+    for key in PART_DETAILS:  # maker part number, package, datasheet: only when given
+        if getattr(part, key, ""):
+            body[key] = getattr(part, key)
     if part.kind in NAMED_KINDS:
         body = {"name": part.name, **body}
     if part.kind == "transistor":

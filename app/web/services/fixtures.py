@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import datetime
 
-from sqlalchemy import and_, exists, func
+from sqlalchemy import String, and_, cast, exists, func
 from sqlalchemy.orm import aliased
 from sqlmodel import Session, select
 
@@ -124,7 +124,12 @@ def _signed_off_number(channel_column):
 
 def _with_report(query):
     return query.join(User, User.id == Revision.author_id).outerjoin(
-        Report, and_(Report.content_hash == Revision.content_hash, Report.engine_version == ENGINE_VERSION)
+        Report,
+        and_(
+            Report.content_hash == Revision.content_hash,
+            Report.engine_version == ENGINE_VERSION,
+            Report.profile_key == func.coalesce(cast(Revision.profile_version_id, String), ""),
+        ),
     )
 
 
@@ -132,8 +137,10 @@ def _fill_missing(db: Session, rows: list[RevisionStatus]) -> None:
     """Reports not cached for this engine version yet (e.g. after an engine upgrade)."""
     for row in rows:
         if row.verdict is None:
-            document = db.exec(select(Revision.document).where(Revision.id == row.id)).one()
-            report = cached_report(db, row.content_hash, document)
+            document, version_id = db.exec(
+                select(Revision.document, Revision.profile_version_id).where(Revision.id == row.id)
+            ).one()
+            report = cached_report(db, row.content_hash, document, version_id)
             row.verdict, row.violations, row.marginals = report.verdict, report.violations, report.marginals
 
 

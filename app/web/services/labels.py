@@ -65,7 +65,7 @@ def labelled_parts(parts: list[tuple[str, str, dict]]) -> list[tuple[str, str, d
         rows = [
             (*part_label(kind, key), key, str(value))
             for key, value in body.items()
-            if key not in ("name", "kind")
+            if key not in ("name", "kind", "maker_part", "package", "datasheet")
         ]
         out.append((slot, kind, body, rows))
     return out

@@ -9,9 +9,9 @@ from pydantic.fields import FieldInfo
 from sqlalchemy import exists, func
 from sqlmodel import Session, select
 
-from app.engine.design import Coil, DesignError, Diode, Transistor, Tvs, Zener, parse_part
+from app.engine.design import PART_DETAILS, Coil, DesignError, Diode, Transistor, Tvs, Zener, parse_part
 
-from ..models import PART_KINDS, Part, RevisionPart, utcnow
+from ..models import PART_KINDS, Channel, Part, Revision, RevisionPart, utcnow
 from .documents import _NUMBER, typed_value
 from .errors import InputProblems, check_text, get_or_not_found, split_problem
 
@@ -30,7 +30,7 @@ def param_fields(kind: str) -> list[tuple[str, FieldInfo]]:
     model = PART_MODELS[kind]
     out = []
     for attr, info in model.model_fields.items():
-        if attr in ("name", "kind"):
+        if attr in ("name", "kind") or attr in PART_DETAILS:
             continue
         out.append((info.alias or attr, info))
     return out
@@ -59,10 +59,39 @@ def clean_params(kind: str, params: dict) -> dict:
     return kept
 
 
-def validate_part(kind: str, name: str, params: dict) -> dict:
+DETAIL_LIMITS = {"maker_part": 100, "package": 60, "datasheet": 500}  # the columns' lengths
+
+
+def clean_details(details: dict | None) -> dict[str, str]:
+    """Maker part number, package and datasheet link as typed (text, never numbers), trimmed;
+    raises InputProblems naming each bad one (the engine's part model checks the link)."""
+    details = details or {}
+    problems = [
+        (key, f"is not a part detail; allowed: {', '.join(PART_DETAILS)}")
+        for key in details
+        if key not in PART_DETAILS
+    ]
+    out = {}
+    for key in PART_DETAILS:
+        value = details.get(key)
+        try:
+            out[key] = check_text(key, "" if value is None else str(value), DETAIL_LIMITS[key])
+        except InputProblems as exc:
+            problems += exc.problems
+    if problems:
+        raise InputProblems(problems)
+    return out
+
+
+def validate_part(kind: str, name: str, params: dict, details: dict | None = None) -> dict:
     """Validate with the engine's model for the kind; return the cleaned parameters."""
     kept = clean_params(kind, params)
     problems = []
+    try:
+        details = clean_details(details)
+    except InputProblems as exc:
+        problems += exc.problems
+        details = {}
     try:
         name = check_text("name", name, 200, required=True)
     except InputProblems as exc:
@@ -70,7 +99,7 @@ def validate_part(kind: str, name: str, params: dict) -> dict:
         name = ""
     from .documents import part_document
 
-    probe = Part(kind=kind, name=name or "unnamed", params=kept)
+    probe = Part(kind=kind, name=name or "unnamed", params=kept, **details)
     try:
         parse_part(PART_MODELS[kind], part_document(probe))
     except DesignError as exc:
@@ -87,25 +116,34 @@ def _name_taken(db: Session, kind: str, name: str, except_id: int | None = None)
     return db.exec(query).first() is not None
 
 
-def create_part(db: Session, kind: str, name: str, params: dict, notes: str = "") -> Part:
-    kept = validate_part(kind, name, params)
+def create_part(
+    db: Session, kind: str, name: str, params: dict, notes: str = "", details: dict | None = None
+) -> Part:
+    kept = validate_part(kind, name, params, details)
+    details = clean_details(details)
     notes = check_text("notes", notes, 5000)
     name = name.strip()
     if _name_taken(db, kind, name):
         raise InputProblems(
             [("name", f"a {kind} named {name!r} already exists; names are unique within a kind")]
         )
-    part = Part(kind=kind, name=name, params=kept, notes=(notes or "").strip())
+    part = Part(kind=kind, name=name, params=kept, notes=(notes or "").strip(), **details)
     db.add(part)
     db.commit()
     db.refresh(part)
     return part
 
 
-def update_part(db: Session, part_id: int, name: str, params: dict, notes: str = "") -> Part:
-    """Change a library part. Stored revisions keep their own frozen copies, so none changes."""
+def update_part(
+    db: Session, part_id: int, name: str, params: dict, notes: str = "", details: dict | None = None
+) -> Part:
+    """Change a library part. Stored revisions keep their own frozen copies, so none changes.
+    Details left out (None) stay as they are."""
     part = get_part(db, part_id)
-    kept = validate_part(part.kind, name, params)
+    if details is None:
+        details = {key: getattr(part, key) for key in PART_DETAILS}
+    kept = validate_part(part.kind, name, params, details)
+    details = clean_details(details)
     notes = check_text("notes", notes, 5000)
     name = name.strip()
     if _name_taken(db, part.kind, name, except_id=part.id):
@@ -113,6 +151,8 @@ def update_part(db: Session, part_id: int, name: str, params: dict, notes: str =
             [("name", f"a {part.kind} named {name!r} already exists; names are unique within a kind")]
         )
     part.name, part.params, part.notes, part.updated_at = name, kept, (notes or "").strip(), utcnow()
+    for key, value in details.items():
+        setattr(part, key, value)
     db.add(part)
     db.commit()
     db.refresh(part)
@@ -125,6 +165,19 @@ def get_part(db: Session, part_id: int) -> Part:
 
 def is_used(db: Session, part_id: int) -> bool:
     return bool(db.exec(select(exists().where(RevisionPart.part_id == part_id))).one())
+
+
+def used_by(db: Session, part_id: int) -> list[tuple[Revision, Channel, str]]:
+    """(revision, channel, slot) of every revision that froze a copy of the part, newest first."""
+    rows = db.exec(
+        select(Revision, Channel, RevisionPart.slot)
+        .join(RevisionPart, RevisionPart.revision_id == Revision.id)
+        .join(Channel, Channel.id == Revision.channel_id)
+        .where(RevisionPart.part_id == part_id)
+        .order_by(Revision.id.desc())
+        .limit(200)
+    )
+    return [tuple(row) for row in rows]
 
 
 def remove_part(db: Session, part_id: int) -> str:
@@ -190,15 +243,17 @@ def restore_cell(text: str | None) -> str | None:
 
 
 def export_csv(db: Session, kind: str) -> str:
-    """One row per part of the kind; columns: name, notes, then the parameter names. Cells that
-    a spreadsheet would run as formulas are neutralised (see neutralise_cell)."""
+    """One row per part of the kind; columns: name, notes, the details, then the parameter names.
+    Cells that a spreadsheet would run as formulas are neutralised (see neutralise_cell)."""
     _check_kind(kind)
-    columns = ["name", "notes"] + [name for name, _ in param_fields(kind)]
+    columns = ["name", "notes", *PART_DETAILS] + [name for name, _ in param_fields(kind)]
     out = io.StringIO()
     writer = csv.DictWriter(out, fieldnames=columns, lineterminator="\n")
     writer.writeheader()
     for part in search_parts(db, kind, include_archived=True, limit=100000):
-        row = {"name": part.name, "notes": part.notes, **{k: part.params.get(k, "") for k in columns[2:]}}
+        details = {key: getattr(part, key) for key in PART_DETAILS}
+        params = {k: part.params.get(k, "") for k in columns[2 + len(PART_DETAILS) :]}
+        row = {"name": part.name, "notes": part.notes, **details, **params}
         writer.writerow({k: neutralise_cell(v) for k, v in row.items()})
     return out.getvalue()
 
@@ -227,7 +282,7 @@ def import_csv(db: Session, kind: str, text: str) -> dict[str, int]:
     _check_kind(kind)
     rows_read = _rows(text)
     header = next(rows_read, None)
-    allowed = {"name", "notes"} | {name for name, _ in param_fields(kind)}
+    allowed = {"name", "notes", *PART_DETAILS} | {name for name, _ in param_fields(kind)}
     fieldnames = [name.strip() for name in header[1]] if header else []
     if not fieldnames or "name" not in fieldnames:
         raise InputProblems([("file", "the first row must name the columns, including name")])
@@ -247,9 +302,11 @@ def import_csv(db: Session, kind: str, text: str) -> dict[str, int]:
             continue
         row = {k: restore_cell(v) for k, v in zip(fieldnames, fields, strict=True)}
         name = (row.get("name") or "").strip()
-        params = {k: v for k, v in row.items() if k not in ("name", "notes")}
+        params = {k: v for k, v in row.items() if k not in ("name", "notes", *PART_DETAILS) and k is not None}
+        details = {k: row[k] for k in PART_DETAILS if row.get(k) is not None}
         try:
-            kept = validate_part(kind, name, params)
+            kept = validate_part(kind, name, params, details)
+            details = clean_details(details)
             check_text("notes", row.get("notes"), 5000)
         except InputProblems as exc:
             problems += [(f"row {number}.{path}", message) for path, message in exc.problems]
@@ -257,18 +314,21 @@ def import_csv(db: Session, kind: str, text: str) -> dict[str, int]:
         if name.lower() in seen:
             problems.append((f"row {number}.name", f"{name!r} appears twice in the file"))
         seen.add(name.lower())
-        rows.append((name, kept, (row.get("notes") or "").strip()))
+        rows.append((name, kept, (row.get("notes") or "").strip(), details))
     if problems:
         raise InputProblems(problems)
     created = updated = 0
-    for name, kept, notes in rows:
+    for name, kept, notes, details in rows:
         existing = db.exec(select(Part).where(Part.kind == kind, Part.name == name)).first()
         if existing:
             existing.params, existing.notes, existing.updated_at = kept, notes, utcnow()
+            for key, value in details.items():  # a column the file leaves out keeps its value
+                if key in fieldnames:
+                    setattr(existing, key, value)
             db.add(existing)
             updated += 1
         else:
-            db.add(Part(kind=kind, name=name, params=kept, notes=notes))
+            db.add(Part(kind=kind, name=name, params=kept, notes=notes, **details))
             created += 1
     db.commit()
     return {"created": created, "updated": updated}

@@ -1,4 +1,4 @@
-"""Reports, cached per design content hash and engine version."""
+"""Reports, cached per design content hash, engine version and derating profile version."""
 
 from __future__ import annotations
 
@@ -6,6 +6,7 @@ from sqlalchemy.exc import IntegrityError
 from sqlmodel import Session, select
 
 from app.engine import ENGINE_VERSION, evaluate, parse_design
+from app.engine.profile import DEFAULT_PROFILE, Profile
 
 from ..models import Report
 
@@ -14,22 +15,40 @@ def count(report: dict, status: str) -> int:
     return sum(1 for finding in report["findings"] if finding["status"] == status)
 
 
-def evaluate_document(document: dict) -> dict:
-    """The same report `clampdown check --format json` prints for this document."""
-    return evaluate(parse_design(document))
+def evaluate_document(document: dict, profile: Profile = DEFAULT_PROFILE) -> dict:
+    """The same report `clampdown check --format json [--profile FILE]` prints for this document."""
+    return evaluate(parse_design(document), profile)
 
 
-def cached_report(db: Session, content_hash: str, document: dict) -> Report:
-    """The stored report for this content and engine version; evaluated and stored on a miss."""
-    found = db.exec(
-        select(Report).where(Report.content_hash == content_hash, Report.engine_version == ENGINE_VERSION)
-    ).first()
+def profile_key(profile_version_id: int | None) -> str:
+    """The report cache's key for a profile version: "" is the built-in default."""
+    return "" if profile_version_id is None else str(profile_version_id)
+
+
+def _lookup(content_hash: str, key: str):
+    return select(Report).where(
+        Report.content_hash == content_hash,
+        Report.engine_version == ENGINE_VERSION,
+        Report.profile_key == key,
+    )
+
+
+def cached_report(
+    db: Session, content_hash: str, document: dict, profile_version_id: int | None = None
+) -> Report:
+    """The stored report for this content, engine version and profile version; evaluated and
+    stored on a miss."""
+    from .profiles import engine_profile
+
+    key = profile_key(profile_version_id)
+    found = db.exec(_lookup(content_hash, key)).first()
     if found is not None:
         return found
-    body = evaluate_document(document)
+    body = evaluate_document(document, engine_profile(db, profile_version_id))
     report = Report(
         content_hash=content_hash,
         engine_version=ENGINE_VERSION,
+        profile_key=key,
         verdict=body["verdict"],
         violations=count(body, "violation"),
         marginals=count(body, "marginal"),
@@ -39,8 +58,11 @@ def cached_report(db: Session, content_hash: str, document: dict) -> Report:
         with db.begin_nested():
             db.add(report)
     except IntegrityError:  # another request stored it first
-        return db.exec(
-            select(Report).where(Report.content_hash == content_hash, Report.engine_version == ENGINE_VERSION)
-        ).one()
+        return db.exec(_lookup(content_hash, key)).one()
     db.commit()
     return report
+
+
+def report_for(db: Session, revision) -> Report:
+    """A revision's report, judged by the profile version it records (None: the built-in default)."""
+    return cached_report(db, revision.content_hash, revision.document, revision.profile_version_id)

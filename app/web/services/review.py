@@ -14,10 +14,10 @@ from app.signoff.compare import Comparison, compare
 from app.signoff.workflow import Refused
 
 from ..models import Report, Revision, RevisionPart, TrailEntry, User
-from . import trail
+from . import profiles, trail
 from .documents import content_hash
 from .errors import InputProblems, NotFound
-from .reports import cached_report, evaluate_document
+from .reports import cached_report, evaluate_document, profile_key, report_for
 
 MAX_TEXT = 5000
 MIN_JUSTIFICATION = 10
@@ -82,7 +82,14 @@ def _act(
     revision = db.get(Revision, revision_id)
     if revision is None:
         raise NotFound(f"revision {revision_id}")
-    report = cached_report(db, revision.content_hash, revision.document)  # may commit: before the lock
+    if action in ("hand_in", "replace"):
+        # Handed in, a revision is judged by the profile version in force now, and keeps it.
+        version_id = profiles.version_in_force(db, revision.channel_id)
+    else:
+        version_id = revision.profile_version_id
+    report = cached_report(
+        db, revision.content_hash, revision.document, version_id
+    )  # may commit: before the lock
     head = trail.lock(db)
     try:
         revision = db.get(Revision, revision_id, populate_existing=True)
@@ -102,6 +109,8 @@ def _act(
             raise _refusal(exc, revision.state, action, who, revision.author_id) from None
         if check is not None:
             check(revision, report.body, waived)
+        if revision.profile_version_id != version_id:
+            revision.profile_version_id = version_id
         if change is not None:
             report = change(revision) or report
         revision.state = new_state
@@ -185,7 +194,9 @@ def replace_draft(db: Session, revision_id: int, user: User, document, change_no
     change_note = _text("change_note", change_note, required=False)
     validate_document(document)
     digest = content_hash(document)
-    new_report = cached_report(db, digest, document)
+    revision = db.get(Revision, revision_id)
+    version_id = profiles.version_in_force(db, revision.channel_id) if revision is not None else None
+    new_report = cached_report(db, digest, document, version_id)
 
     def change(revision):
         revision.document, revision.content_hash = document, digest
@@ -238,10 +249,14 @@ def cached_report_in_lock(db: Session, revision: Revision) -> dict:
     """The stored report of an earlier revision (saved long ago, so it is there: no commit)."""
     found = db.exec(
         select(Report.body).where(
-            Report.content_hash == revision.content_hash, Report.engine_version == ENGINE_VERSION
+            Report.content_hash == revision.content_hash,
+            Report.engine_version == ENGINE_VERSION,
+            Report.profile_key == profile_key(revision.profile_version_id),
         )
     ).first()
-    return found if found is not None else evaluate_document(revision.document)
+    if found is not None:
+        return found
+    return evaluate_document(revision.document, profiles.engine_profile(db, revision.profile_version_id))
 
 
 # ----- what the pages show -----
@@ -449,6 +464,6 @@ def compare_revisions(db: Session, channel_id: int, old_id: int, new_id: int) ->
             )
     if problems:
         raise InputProblems(problems)
-    old_report = cached_report(db, old.content_hash, old.document).body
-    new_report = cached_report(db, new.content_hash, new.document).body
+    old_report = report_for(db, old).body
+    new_report = report_for(db, new).body
     return ComparisonView(old, new, compare(old.document, old_report, new.document, new_report))

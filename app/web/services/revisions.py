@@ -10,10 +10,10 @@ from sqlmodel import Session, select
 from app.engine import DesignError, parse_design
 
 from ..models import Channel, Fixture, Part, Report, Revision, RevisionPart, User
-from . import review, trail
+from . import profiles, review, trail
 from .documents import SLOT_KINDS, content_hash, get_path, part_document
 from .errors import InputProblems, NotFound, check_text, get_or_not_found, split_problem
-from .reports import cached_report
+from .reports import cached_report, report_for
 
 
 def revision_label(number: int) -> str:
@@ -65,7 +65,8 @@ def create_revision(
     validate_document(document)
     digest = content_hash(document)
     links = part_links if part_links is not None else _link_by_name(db, document)
-    report = cached_report(db, digest, document)  # may commit, so before the trail's lock
+    version_id = profiles.version_in_force(db, channel_id)  # a draft: judged by today's profile
+    report = cached_report(db, digest, document, version_id)  # may commit, so before the trail's lock
     head = trail.lock(db)
     try:
         number = (
@@ -80,6 +81,7 @@ def create_revision(
             author_id=author.id,
             change_note=change_note,
             source=source,
+            profile_version_id=version_id,
         )
         db.add(revision)
         db.flush()
@@ -119,9 +121,7 @@ def revision_view(db: Session, revision_id: int) -> RevisionView:
     if row is None:
         raise NotFound(f"revision {revision_id}")
     revision, channel, fixture, author = row
-    return RevisionView(
-        revision, channel, fixture, author, cached_report(db, revision.content_hash, revision.document)
-    )
+    return RevisionView(revision, channel, fixture, author, report_for(db, revision))
 
 
 def latest_revision(db: Session, channel_id: int) -> Revision | None:

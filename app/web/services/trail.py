@@ -31,17 +31,12 @@ from app.signoff.workflow import Actor
 
 from .. import trail_guard
 from ..models import Report, Revision, TrailEntry, TrailHead, User
-
-# The web app gives each user one role; the workflow reasons about sets of roles.
-ROLE_GRANTS = {
-    "admin": frozenset({"admin", "reviewer", "designer"}),
-    "reviewer": frozenset({"reviewer"}),
-    "designer": frozenset({"designer"}),
-}
+from ..permissions import workflow_roles
 
 
 def actor(user: User) -> Actor:
-    return Actor.of(user.id, ROLE_GRANTS.get(user.role, frozenset()))
+    """The workflow's view of a user: the role set derived from the named actions."""
+    return Actor.of(user.id, workflow_roles(user))
 
 
 # The trail key of each engine (set by create_app and the commands from the settings). The key
