@@ -40,7 +40,7 @@ async def create_fixture(request: Request, db: DB, user: Designer):
         return render(
             request,
             "home.html",
-            status_code=422,
+            status_code=exc.status_code,
             overview=fixtures.overview(db),
             errors=dict(exc.problems),
             form=values,
@@ -66,7 +66,7 @@ async def create_channel(request: Request, db: DB, user: Designer, fixture_id: i
         return render(
             request,
             "fixture.html",
-            status_code=422,
+            status_code=exc.status_code,
             fixture=fixture,
             channels=channels,
             errors=dict(exc.problems),

@@ -5,9 +5,11 @@ from __future__ import annotations
 from sqlalchemy.exc import IntegrityError
 from sqlmodel import Session, select
 
-from app.engine import ENGINE_VERSION, evaluate, parse_design
+from app.engine import ENGINE_VERSION, DesignError, evaluate, parse_design
 
 from ..models import Report
+from .documents import finite_json
+from .errors import InputProblems, split_problem
 
 
 def count(report: dict, status: str) -> int:
@@ -15,8 +17,13 @@ def count(report: dict, status: str) -> int:
 
 
 def evaluate_document(document: dict) -> dict:
-    """The same report `clampdown check --format json` prints for this document."""
-    return evaluate(parse_design(document))
+    """The same report `clampdown check --format json` prints for this document, with any
+    number that is not finite given as null (JSON has no infinity). A design the engine refuses
+    is InputProblems naming the field."""
+    try:
+        return finite_json(evaluate(parse_design(document)))
+    except DesignError as exc:
+        raise InputProblems([split_problem(line) for line in exc.problems]) from None
 
 
 def cached_report(db: Session, content_hash: str, document: dict) -> Report:
