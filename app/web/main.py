@@ -2,20 +2,19 @@
 
 from __future__ import annotations
 
-from fastapi import Depends, FastAPI, Request
-from fastapi.exceptions import RequestValidationError
+from fastapi import Depends, FastAPI
 from fastapi.openapi.docs import get_swagger_ui_html
-from fastapi.responses import HTMLResponse, JSONResponse, PlainTextResponse, RedirectResponse
+from fastapi.responses import HTMLResponse, PlainTextResponse, RedirectResponse
 from fastapi.staticfiles import StaticFiles
 from starlette.datastructures import MutableHeaders
-from starlette.exceptions import HTTPException as StarletteHTTPException
 
+from . import error_handling
 from .config import Settings, get_settings, shipped
 from .db import make_engine
-from .deps import CsrfRefused, Forbidden, SignInRequired, csrf_protect, current_user
+from .deps import csrf_protect
+from .error_handling import ids_in_range
 from .security import COOKIE_NAME, SessionSigner
-from .services.errors import InputProblems, NotFound
-from .templating import FragmentCache, make_templates, render
+from .templating import FragmentCache, make_templates
 
 
 class SessionCookie:
@@ -54,17 +53,13 @@ class SessionCookie:
         await self.app(scope, receive, send_with_cookie)
 
 
-def _wants_json(request: Request) -> bool:
-    return request.url.path.startswith("/api/")
-
-
 def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
     settings = (settings or get_settings()).resolved()
     app = FastAPI(
         title="Clampdown",
         version="0.1.0",
         description="Parts library, fixtures, channels and revisions of relay-driver designs, and their reviews.",
-        dependencies=[Depends(csrf_protect)],
+        dependencies=[Depends(ids_in_range), Depends(csrf_protect)],
         docs_url=None,  # served below from the vendored assets in static/swagger-ui/
         openapi_url="/api/v1/openapi.json",
         redoc_url=None,
@@ -107,70 +102,8 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
         """A trivial endpoint (no database): the benchmark's reference, and a liveness probe."""
         return PlainTextResponse("ok")
 
-    _install_error_handlers(app)
+    error_handling.install(app)
     return app
-
-
-def _error_page(request: Request, status: int, title: str, lines: list[str]):
-    return render(request, "error.html", status_code=status, title=title, lines=lines)
-
-
-def _install_error_handlers(app: FastAPI) -> None:
-    @app.exception_handler(SignInRequired)
-    async def _sign_in(request: Request, exc: SignInRequired):
-        if _wants_json(request):
-            return JSONResponse({"detail": "sign in first (POST /api/v1/session)"}, status_code=401)
-        target = "/sign-in?next=" + request.url.path if request.method == "GET" else "/sign-in"
-        if request.headers.get("HX-Request"):
-            return PlainTextResponse("sign in first", status_code=401, headers={"HX-Redirect": target})
-        return RedirectResponse(target, status_code=303)
-
-    @app.exception_handler(Forbidden)
-    async def _forbidden(request: Request, exc: Forbidden):
-        if _wants_json(request):
-            return JSONResponse({"detail": exc.message}, status_code=403)
-        return _error_page(request, 403, "Not allowed", [exc.message])
-
-    @app.exception_handler(CsrfRefused)
-    async def _csrf(request: Request, exc: CsrfRefused):
-        message = "the form's security token is missing or stale; reload the page and try again"
-        if _wants_json(request):
-            return JSONResponse({"detail": message + f" (send the {'X-CSRF-Token'} header)"}, status_code=403)
-        return _error_page(request, 403, "Request refused", [message])
-
-    @app.exception_handler(NotFound)
-    async def _not_found(request: Request, exc: NotFound):
-        if _wants_json(request):
-            return JSONResponse({"detail": str(exc)}, status_code=404)
-        return _error_page(request, 404, "Not found", [str(exc)])
-
-    @app.exception_handler(InputProblems)
-    async def _problems(request: Request, exc: InputProblems):
-        if _wants_json(request):
-            return JSONResponse({"detail": exc.as_detail()}, status_code=exc.status_code)
-        return _error_page(
-            request, exc.status_code, "Cannot accept that", [f"{p}: {m}" for p, m in exc.problems]
-        )
-
-    @app.exception_handler(RequestValidationError)
-    async def _invalid(request: Request, exc: RequestValidationError):
-        detail = [
-            {"loc": [str(x) for x in e["loc"]], "msg": e["msg"], "type": e["type"]} for e in exc.errors()
-        ]
-        if _wants_json(request):
-            return JSONResponse({"detail": detail}, status_code=422)
-        lines = [f"{'.'.join(d['loc'][1:]) or d['loc'][0]}: {d['msg']}" for d in detail]
-        return _error_page(request, 422, "Cannot accept that", lines)
-
-    @app.exception_handler(StarletteHTTPException)
-    async def _http(request: Request, exc: StarletteHTTPException):
-        if _wants_json(request):
-            return JSONResponse({"detail": exc.detail}, status_code=exc.status_code)
-        if not hasattr(
-            request.state, "user"
-        ):  # no route ran (an unknown path): the page's navigation needs the user
-            await current_user(request)
-        return _error_page(request, exc.status_code, str(exc.detail), [])
 
 
 def route_table(app: FastAPI) -> list[tuple[str, str]]:

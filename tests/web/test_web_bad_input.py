@@ -45,6 +45,9 @@ def test_no_route_answers_garbage_with_a_server_error(admin, world, value):
         concrete = re.sub(r"\{[^}]+\}", "1", path)
         if method == "GET":
             response = admin.get(concrete, params={"kind": value, "q": value, "slot": value})
+            if path.endswith("/record.pdf") and response.status_code == 501:
+                assert "WeasyPrint is not installed" in response.text  # the documented answer
+                continue
         else:
             response = admin.request(method, concrete, data=fields)
             assert response.status_code < 500, f"{method} {path} form {value!r}: {response.status_code}"

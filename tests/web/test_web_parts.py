@@ -24,7 +24,7 @@ def test_a_bad_parameter_is_named_beside_its_field(designer):
 def test_names_are_unique_within_a_kind_only(designer):
     name = "Demo rectifier 1 A (illustrative)"
     again = designer.post("/api/v1/parts", json={"kind": "diode", "name": name, "params": DIODE})
-    assert again.status_code == 422 and "already exists" in again.text
+    assert again.status_code == 409 and "already exists" in again.text
     coil_params = {
         "v_nominal": 12,
         "r_coil": 400,

@@ -38,7 +38,7 @@ async def create_user(request: Request, db: DB, user: UserManager):
     try:
         users.create_user(db, values["name"], values["password"], values["role"])
     except InputProblems as exc:
-        return _page(request, db, dict(exc.problems), {**values, "password": ""}, status_code=422)
+        return _page(request, db, dict(exc.problems), {**values, "password": ""}, status_code=exc.status_code)
     return RedirectResponse("/admin/users", status_code=303)
 
 
@@ -48,5 +48,5 @@ async def update_user(request: Request, db: DB, user: UserManager, user_id: int)
     try:
         users.update_user(db, user_id, str(form.get("role", "")), form.get("active") == "on", user.id)
     except InputProblems as exc:
-        return _page(request, db, dict(exc.problems), status_code=422)
+        return _page(request, db, dict(exc.problems), status_code=exc.status_code)
     return RedirectResponse("/admin/users", status_code=303)

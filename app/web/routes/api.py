@@ -18,7 +18,31 @@ from ..services.errors import InputProblems
 from ..services.reports import evaluate_document
 from ..services.revisions import validate_document
 
-router = APIRouter(tags=["api"])
+
+class ErrorItem(BaseModel):
+    loc: list[str | int] = Field(description="where: body, path, query, header, or a field path")
+    msg: str
+    type: str
+
+
+class ErrorOut(BaseModel):
+    """Every error the API gives has this shape (app/web/error_handling.py)."""
+
+    detail: list[ErrorItem]
+
+
+_ERRORS = {
+    status: {"model": ErrorOut, "description": description}
+    for status, description in (
+        (401, "sign in first"),
+        (403, "not allowed for this role, or the CSRF token is missing or stale"),
+        (404, "not found"),
+        (409, "conflicts with what is stored (a name taken, a state that does not allow it)"),
+        (413, "the request is too large"),
+        (429, "too many requests; see Retry-After"),
+    )
+}
+router = APIRouter(tags=["api"], responses=_ERRORS)
 
 
 def _utc(value: datetime) -> datetime:

@@ -57,7 +57,7 @@ async def create_fixture(request: Request, db: DB, user: FixtureEditor):
         return render(
             request,
             "home.html",
-            status_code=422,
+            status_code=exc.status_code,
             overview_html=_overview_html(request, db),
             errors=dict(exc.problems),
             form=values,
@@ -99,7 +99,7 @@ async def create_channel(request: Request, db: DB, user: FixtureEditor, fixture_
         return render(
             request,
             "fixture.html",
-            status_code=422,
+            status_code=exc.status_code,
             fixture=fixture,
             channels=channels,
             errors=dict(exc.problems),

@@ -50,7 +50,7 @@ def part_picker(request: Request, db: DB, user: Viewer, slot: str, q: str = ""):
         raise InputProblems([("slot", f"{slot!r} is not a part slot; allowed: {', '.join(SLOT_KINDS)}")], 400)
     selected = request.query_params.get(slot, "")
     found = parts.search_parts(db, SLOT_KINDS[slot], q, limit=50)
-    if selected.isdigit() and all(str(p.id) != selected for p in found):
+    if selected.isdigit() and int(selected) <= 2**31 - 1 and all(str(p.id) != selected for p in found):
         chosen = db.get(parts.Part, int(selected))
         if chosen is not None and chosen.kind == SLOT_KINDS[slot]:
             found.insert(0, chosen)
@@ -99,7 +99,9 @@ async def create_part(request: Request, db: DB, user: LibraryEditor):
     try:
         part = parts.create_part(db, kind, values["name"], _params(values), values["notes"], _details(values))
     except InputProblems as exc:
-        return _form(kind, values=values, errors=dict(exc.problems), status_code=422, request=request)
+        return _form(
+            kind, values=values, errors=dict(exc.problems), status_code=exc.status_code, request=request
+        )
     return redirect_done(request, f"/parts/{part.id}", f"Part “{part.name}” added to the library.")
 
 
@@ -192,7 +194,12 @@ async def update_part(request: Request, db: DB, user: LibraryEditor, part_id: in
         )
     except InputProblems as exc:
         return _form(
-            part.kind, part=part, values=values, errors=dict(exc.problems), status_code=422, request=request
+            part.kind,
+            part=part,
+            values=values,
+            errors=dict(exc.problems),
+            status_code=exc.status_code,
+            request=request,
         )
     name = saved.name
     return redirect_done(

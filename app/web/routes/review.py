@@ -6,7 +6,6 @@ arrive as InputProblems (403 for who, 409 for when) and render as the error page
 
 from __future__ import annotations
 
-import json
 from typing import Annotated
 
 from fastapi import APIRouter, File, Form, Request, UploadFile
@@ -14,6 +13,7 @@ from fastapi.responses import RedirectResponse, Response
 
 from ..deps import DB, Viewer
 from ..services import record, review, revisions
+from ..services.documents import load_json_file
 from ..services.errors import InputProblems
 from ..templating import redirect_done, render
 
@@ -85,10 +85,7 @@ def replace(
     raw = file.file.read(MAX_UPLOAD + 1)
     if len(raw) > MAX_UPLOAD:
         raise InputProblems([("file", f"larger than {MAX_UPLOAD // 1000} kB; a design file is a few kB")])
-    try:
-        document = json.loads(raw.decode("utf-8"))
-    except (UnicodeDecodeError, json.JSONDecodeError) as exc:
-        raise InputProblems([("file", f"not JSON ({exc})")]) from None
+    document = load_json_file(raw)
     entry = review.replace_draft(db, revision_id, user, document, change_note)
     return _back(request, db, entry)
 

@@ -13,7 +13,7 @@ from app.engine import ENGINE_VERSION, DesignError
 from ..deps import DB, RevisionAuthor, Viewer
 from ..permissions import can
 from ..services import findings_view, fixtures, record, revision_form, revisions, trail
-from ..services.documents import canonical_json
+from ..services.documents import canonical_json, load_json_file
 from ..services.errors import InputProblems
 from ..services.parts import search_parts
 from ..services.reports import evaluate_document
@@ -157,9 +157,9 @@ async def upload_revision(request: Request, db: DB, user: RevisionAuthor, channe
             problems.append(f"file: larger than {MAX_UPLOAD // 1000} kB; a design file is a few kB")
         else:
             try:
-                document = json.loads(raw.decode("utf-8"))
-            except (UnicodeDecodeError, json.JSONDecodeError) as exc:
-                problems.append(f"file: not JSON ({exc})")
+                document = load_json_file(raw)
+            except InputProblems as exc:
+                problems += [f"{p}: {m}" for p, m in exc.problems]
     if document is not None:
         try:
             revision = revisions.create_revision(db, channel_id, document, user, change_note, source="upload")

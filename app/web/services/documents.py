@@ -14,6 +14,88 @@ from ..models import Part
 _NUMBER = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
 
 
+# What a design document may hold: a design file is a few levels deep, with everyday numbers.
+MAX_DEPTH = 12
+MAX_NODES = 5000
+MAX_STRING = 20000
+MAX_INTEGER = 2**53  # beyond this JSON readers disagree on the value (RFC 8259, section 6)
+
+
+def check_shape(document: Any, prefix: str = "") -> None:
+    """Refuse, naming the field, what no design file holds and what would break storing or
+    hashing it: nesting deeper than MAX_DEPTH, more than MAX_NODES values, integers beyond
+    ±2**53, numbers that are not finite, text longer than MAX_STRING. Iterative: a deep
+    document cannot exhaust the stack here."""
+    import math
+
+    from .errors import InputProblems
+
+    stack = [(prefix, document, 0)]
+    seen = 0
+    while stack:
+        path, node, depth = stack.pop()
+        seen += 1
+        where = path or "(design)"
+        if seen > MAX_NODES:
+            raise InputProblems(
+                [(prefix or "(design)", f"holds more than {MAX_NODES} values; a design file holds far fewer")]
+            )
+        if depth > MAX_DEPTH:
+            raise InputProblems(
+                [(where, f"is nested more than {MAX_DEPTH} levels deep; a design file is a few levels deep")]
+            )
+        if isinstance(node, dict):
+            for key, value in node.items():
+                stack.append((f"{path}.{key}" if path else str(key), value, depth + 1))
+        elif isinstance(node, list):
+            for index, value in enumerate(node):
+                stack.append((f"{path}.{index}" if path else str(index), value, depth + 1))
+        elif isinstance(node, bool) or node is None:
+            continue
+        elif isinstance(node, int):
+            if abs(node) > MAX_INTEGER:
+                raise InputProblems([(where, f"is too large a number (at most {MAX_INTEGER:,} in size)")])
+        elif isinstance(node, float):
+            if not math.isfinite(node):
+                raise InputProblems([(where, "must be a finite number")])
+        elif isinstance(node, str) and len(node) > MAX_STRING:
+            raise InputProblems([(where, f"is too long (at most {MAX_STRING} characters)")])
+
+
+def load_json_file(raw: bytes, field: str = "file") -> Any:
+    """An uploaded JSON file; InputProblems naming ``field`` when it is not UTF-8 JSON, uses the
+    non-standard NaN/Infinity, or nests so deep the parser gives up."""
+    import json
+
+    from .errors import InputProblems
+
+    def refuse_constant(name: str):
+        raise ValueError(f"{name} is not a JSON number")
+
+    try:
+        return json.loads(raw.decode("utf-8"), parse_constant=refuse_constant)
+    except UnicodeDecodeError:
+        raise InputProblems([(field, "not UTF-8 text")]) from None
+    except RecursionError:
+        raise InputProblems([(field, "nested too deeply to be a design file")]) from None
+    except ValueError as exc:  # JSONDecodeError is a ValueError
+        raise InputProblems([(field, f"not JSON ({exc})")]) from None
+
+
+def finite_json(value: Any) -> Any:
+    """``value`` with every number that is not finite replaced by None (JSON has no infinity;
+    PostgreSQL refuses it, and so does the API's encoder). Used on reports before storing."""
+    import math
+
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    if isinstance(value, dict):
+        return {k: finite_json(v) for k, v in value.items()}
+    if isinstance(value, list | tuple):
+        return [finite_json(v) for v in value]
+    return value
+
+
 def content_hash(document: Any) -> str:
     """SHA-256 of the canonical JSON; the one function the trail's verification also uses."""
     return sha256_hex(document)

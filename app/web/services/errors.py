@@ -55,3 +55,21 @@ def check_text(field: str, value: str | None, limit: int, required: bool = False
     if "\x00" in value:
         raise InputProblems([(field, "must not contain NUL characters")])
     return value
+
+
+def commit_or_conflict(db, field: str, message: str) -> None:
+    """Commit; a unique constraint met at commit (a concurrent request stored the same name
+    first) becomes a 409 naming the field instead of a server error."""
+    from sqlalchemy.exc import IntegrityError
+
+    try:
+        db.commit()
+    except IntegrityError:
+        db.rollback()
+        raise InputProblems([(field, message)], 409) from None
+
+
+def same_name(a: str, b: str) -> bool:
+    """Names compare without regard to case, in every script (the databases' lower() folds
+    ASCII only)."""
+    return a.casefold() == b.casefold()

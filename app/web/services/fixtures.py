@@ -12,7 +12,7 @@ from sqlmodel import Session, select
 from app.engine import ENGINE_VERSION
 
 from ..models import Channel, Fixture, Report, Revision, TrailEntry, User
-from .errors import InputProblems, check_text, get_or_not_found
+from .errors import InputProblems, check_text, commit_or_conflict, get_or_not_found, same_name
 from .reports import cached_report
 
 
@@ -23,11 +23,12 @@ def _text(field: str, value: str, limit: int, required: bool = True) -> str:
 def create_fixture(db: Session, name: str, description: str = "") -> Fixture:
     name = _text("name", name, 200)
     description = _text("description", description, 5000, required=False)
-    if db.exec(select(Fixture).where(func.lower(Fixture.name) == name.lower())).first():
-        raise InputProblems([("name", f"a fixture named {name!r} already exists")])
+    taken = f"a fixture named {name!r} already exists"
+    if any(same_name(name, other) for other in db.exec(select(Fixture.name))):
+        raise InputProblems([("name", taken)], 409)
     fixture = Fixture(name=name, description=description)
     db.add(fixture)
-    db.commit()
+    commit_or_conflict(db, "name", taken)
     db.refresh(fixture)
     return fixture
 
@@ -38,12 +39,13 @@ def create_channel(
     fixture = get_fixture(db, fixture_id)
     name = _text("name", name, 200)
     load = _text("load", load, 300, required=False)
-    taken = select(Channel).where(Channel.fixture_id == fixture.id, func.lower(Channel.name) == name.lower())
-    if db.exec(taken).first():
-        raise InputProblems([("name", f"{fixture.name} already has a channel named {name!r}")])
+    taken = f"{fixture.name} already has a channel named {name!r}"
+    names = db.exec(select(Channel.name).where(Channel.fixture_id == fixture.id))
+    if any(same_name(name, other) for other in names):
+        raise InputProblems([("name", taken)], 409)
     channel = Channel(fixture_id=fixture.id, name=name, load=load, mains_load=bool(mains_load))
     db.add(channel)
-    db.commit()
+    commit_or_conflict(db, "name", taken)
     db.refresh(channel)
     return channel
 

@@ -13,7 +13,7 @@ from app.engine.design import PART_DETAILS, Coil, DesignError, Diode, Transistor
 
 from ..models import PART_KINDS, Channel, Part, Revision, RevisionPart, utcnow
 from .documents import _NUMBER, typed_value
-from .errors import InputProblems, check_text, get_or_not_found, split_problem
+from .errors import InputProblems, check_text, commit_or_conflict, get_or_not_found, split_problem
 
 PART_MODELS = {"transistor": Transistor, "diode": Diode, "zener": Zener, "tvs": Tvs, "coil": Coil}
 KIND_TITLES = {
@@ -125,11 +125,11 @@ def create_part(
     name = name.strip()
     if _name_taken(db, kind, name):
         raise InputProblems(
-            [("name", f"a {kind} named {name!r} already exists; names are unique within a kind")]
+            [("name", f"a {kind} named {name!r} already exists; names are unique within a kind")], 409
         )
     part = Part(kind=kind, name=name, params=kept, notes=(notes or "").strip(), **details)
     db.add(part)
-    db.commit()
+    commit_or_conflict(db, "name", f"a {kind} named {name!r} already exists; names are unique within a kind")
     db.refresh(part)
     return part
 
@@ -148,13 +148,15 @@ def update_part(
     name = name.strip()
     if _name_taken(db, part.kind, name, except_id=part.id):
         raise InputProblems(
-            [("name", f"a {part.kind} named {name!r} already exists; names are unique within a kind")]
+            [("name", f"a {part.kind} named {name!r} already exists; names are unique within a kind")], 409
         )
     part.name, part.params, part.notes, part.updated_at = name, kept, (notes or "").strip(), utcnow()
     for key, value in details.items():
         setattr(part, key, value)
     db.add(part)
-    db.commit()
+    commit_or_conflict(
+        db, "name", f"a {part.kind} named {name!r} already exists; names are unique within a kind"
+    )
     db.refresh(part)
     return part
 
@@ -330,5 +332,7 @@ def import_csv(db: Session, kind: str, text: str) -> dict[str, int]:
         else:
             db.add(Part(kind=kind, name=name, params=kept, notes=notes, **details))
             created += 1
-    db.commit()
+    commit_or_conflict(
+        db, "file", "another import or edit stored one of these names at the same moment; try again"
+    )
     return {"created": created, "updated": updated}

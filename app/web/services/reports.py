@@ -5,10 +5,12 @@ from __future__ import annotations
 from sqlalchemy.exc import IntegrityError
 from sqlmodel import Session, select
 
-from app.engine import ENGINE_VERSION, evaluate, parse_design
+from app.engine import ENGINE_VERSION, DesignError, evaluate, parse_design
 from app.engine.profile import DEFAULT_PROFILE, Profile
 
 from ..models import Report
+from .documents import finite_json
+from .errors import InputProblems, split_problem
 
 
 def count(report: dict, status: str) -> int:
@@ -16,8 +18,13 @@ def count(report: dict, status: str) -> int:
 
 
 def evaluate_document(document: dict, profile: Profile = DEFAULT_PROFILE) -> dict:
-    """The same report `clampdown check --format json [--profile FILE]` prints for this document."""
-    return evaluate(parse_design(document), profile)
+    """The same report `clampdown check --format json [--profile FILE]` prints for this document,
+    with any number that is not finite given as null (JSON has no infinity). A design the engine
+    refuses is InputProblems naming the field."""
+    try:
+        return finite_json(evaluate(parse_design(document), profile))
+    except DesignError as exc:
+        raise InputProblems([split_problem(line) for line in exc.problems]) from None
 
 
 def profile_key(profile_version_id: int | None) -> str:

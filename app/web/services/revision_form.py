@@ -143,7 +143,7 @@ def build_document(db: Session, values: dict[str, str]) -> tuple[dict, dict[str,
             if not text:
                 problems.append((f.path, "pick a part from the library"))
                 continue
-            part = db.get(Part, int(text)) if text.isdigit() else None
+            part = db.get(Part, int(text)) if text.isdigit() and int(text) <= 2**31 - 1 else None
             if part is None or part.kind != SLOT_KINDS[f.path]:
                 problems.append((f.path, f"no {SLOT_KINDS[f.path]} with id {text!r} in the library"))
                 continue

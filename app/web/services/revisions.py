@@ -11,7 +11,7 @@ from app.engine import DesignError, parse_design
 
 from ..models import Channel, Fixture, Part, Report, Revision, RevisionPart, User
 from . import profiles, review, trail
-from .documents import SLOT_KINDS, content_hash, get_path, part_document
+from .documents import SLOT_KINDS, check_shape, content_hash, get_path, part_document
 from .errors import InputProblems, NotFound, check_text, get_or_not_found, split_problem
 from .reports import cached_report, report_for
 
@@ -26,6 +26,7 @@ def revision_label(number: int) -> str:
 
 
 def validate_document(document) -> None:
+    check_shape(document)
     try:
         parse_design(document)
     except DesignError as exc:

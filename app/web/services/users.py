@@ -9,7 +9,7 @@ from sqlmodel import Session, select
 
 from ..models import ROLES, User
 from ..security import DUMMY_HASH, hash_password, verify_password
-from .errors import InputProblems, NotFound
+from .errors import InputProblems, NotFound, commit_or_conflict
 
 _NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,79}$")
 MIN_PASSWORD = 8
@@ -32,12 +32,12 @@ def create_user(db: Session, name: str, password: str, role: str) -> User:
     name = (name or "").strip()
     problems = _check(name, role, password)
     if not problems and db.exec(select(User).where(func.lower(User.name) == name.lower())).first():
-        problems.append(("name", f"a user named {name!r} already exists"))
+        raise InputProblems([("name", f"a user named {name!r} already exists")], 409)
     if problems:
         raise InputProblems(problems)
     user = User(name=name, password_hash=hash_password(password), role=role)
     db.add(user)
-    db.commit()
+    commit_or_conflict(db, "name", f"a user named {name!r} already exists")
     db.refresh(user)
     return user
 
