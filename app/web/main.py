@@ -2,7 +2,10 @@
 
 from __future__ import annotations
 
-from fastapi import Depends, FastAPI, Request
+import re
+
+import anyio.to_thread
+from fastapi import Depends, FastAPI, HTTPException, Request
 from fastapi.exceptions import RequestValidationError
 from fastapi.responses import JSONResponse, PlainTextResponse, RedirectResponse
 from fastapi.staticfiles import StaticFiles
@@ -12,7 +15,7 @@ from starlette.exceptions import HTTPException as StarletteHTTPException
 from .config import REPO_ROOT, Settings, get_settings
 from .db import make_engine
 from .deps import CsrfRefused, Forbidden, SignInRequired, csrf_protect
-from .security import COOKIE_NAME, SessionSigner
+from .security import COOKIE_NAME, SessionSigner, SignInThrottle
 from .services.errors import InputProblems, NotFound
 from .templating import FragmentCache, make_templates, render
 
@@ -53,6 +56,109 @@ class SessionCookie:
         await self.app(scope, receive, send_with_cookie)
 
 
+class WorkerThreads:
+    """Pure ASGI middleware: the thread pool that runs plain-function routes and dependencies
+    gets ``threads`` workers (the connection pool is sized from the same number)."""
+
+    def __init__(self, app, threads: int):
+        self.app, self.threads = app, threads
+
+    async def __call__(self, scope, receive, send):
+        limiter = anyio.to_thread.current_default_thread_limiter()
+        if limiter.total_tokens != self.threads:
+            limiter.total_tokens = self.threads
+        await self.app(scope, receive, send)
+
+
+_UPLOAD_PATH = re.compile(r"^/(parts/import|channels/[^/]+/upload)/?$")
+
+
+def body_limit(settings: Settings, path: str) -> tuple[str, int]:
+    """The route kind of a path and its request-body limit in bytes."""
+    if _UPLOAD_PATH.match(path):
+        return "a file upload", settings.body_limit_upload
+    if path.startswith("/api/"):
+        return "the JSON API", settings.body_limit_json
+    return "a form", settings.body_limit_form
+
+
+class BodyLimit:
+    """Pure ASGI middleware: a request body over its route kind's limit is refused with 413
+    before anything parses it: at once when Content-Length says so, otherwise as soon as the
+    bytes received (chunked bodies too) pass the limit."""
+
+    def __init__(self, app, settings: Settings):
+        self.app, self.settings = app, settings
+
+    async def __call__(self, scope, receive, send):
+        if scope["type"] != "http":
+            return await self.app(scope, receive, send)
+        kind, limit = body_limit(self.settings, scope["path"])
+        declared = None
+        for key, value in scope["headers"]:
+            if key == b"content-length":
+                declared = int(value) if value.isdigit() else None
+        received = 0
+
+        def too_large() -> HTTPException:
+            return HTTPException(
+                status_code=413, detail=f"the request body is over {limit:,} bytes, the limit for {kind}"
+            )
+
+        async def receive_limited():
+            nonlocal received
+            if declared is not None and declared > limit:
+                raise too_large()
+            message = await receive()
+            if message["type"] == "http.request":
+                received += len(message.get("body", b""))
+                if received > limit:
+                    raise too_large()
+            return message
+
+        await self.app(scope, receive_limited, send)
+
+
+# The pages load only /static files: htmx (configured not to eval or inject styles, see
+# base.html) and app.js; inline style attributes remain in the templates. The API's docs page
+# loads Swagger UI from its CDN with an inline start-up script, so it gets its own policy.
+CSP = (
+    "default-src 'self'; script-src 'self'; style-src 'self' 'unsafe-inline'; img-src 'self' data:; "
+    "object-src 'none'; base-uri 'none'; form-action 'self'; frame-ancestors 'none'"
+)
+CSP_DOCS = (
+    "default-src 'self'; script-src 'self' 'unsafe-inline' https://cdn.jsdelivr.net; "
+    "style-src 'self' 'unsafe-inline' https://cdn.jsdelivr.net; img-src 'self' data: https:; "
+    "object-src 'none'; base-uri 'none'; frame-ancestors 'none'"
+)
+
+
+class SecurityHeaders:
+    """Pure ASGI middleware: Content-Security-Policy, X-Frame-Options, X-Content-Type-Options
+    and Referrer-Policy on every response (and HSTS when the cookie is Secure, i.e. HTTPS)."""
+
+    def __init__(self, app, docs_path: str, https: bool):
+        self.app, self.docs_path, self.https = app, docs_path, https
+
+    async def __call__(self, scope, receive, send):
+        if scope["type"] != "http":
+            return await self.app(scope, receive, send)
+        policy = CSP_DOCS if scope["path"] == self.docs_path else CSP
+
+        async def send_with_headers(message):
+            if message["type"] == "http.response.start":
+                headers = MutableHeaders(scope=message)
+                headers["Content-Security-Policy"] = policy
+                headers["X-Frame-Options"] = "DENY"
+                headers["X-Content-Type-Options"] = "nosniff"
+                headers["Referrer-Policy"] = "same-origin"
+                if self.https:
+                    headers["Strict-Transport-Security"] = "max-age=31536000"
+            await send(message)
+
+        await self.app(scope, receive, send_with_headers)
+
+
 def _wants_json(request: Request) -> bool:
     return request.url.path.startswith("/api/")
 
@@ -69,11 +175,22 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
         redoc_url=None,
     )
     app.state.settings = settings
-    app.state.engine = engine or make_engine(settings.database_url)
+    app.state.engine = engine or make_engine(
+        settings.database_url, settings.threads, settings.db_pool_overflow
+    )
     app.state.signer = SessionSigner(settings.secret_key, settings.session_days * 86400)
+    app.state.throttle = SignInThrottle(
+        settings.signin_failures_per_account,
+        settings.signin_failures_per_address,
+        settings.signin_window_seconds,
+    )
     app.state.templates = make_templates()
     app.state.fragments = FragmentCache()  # revision page bodies and the home overview
+    # Outermost last: headers on every answer (errors too), then the body limit, then the cookie.
     app.add_middleware(SessionCookie, signer=app.state.signer, secure=settings.cookie_secure)
+    app.add_middleware(BodyLimit, settings=settings)
+    app.add_middleware(WorkerThreads, threads=settings.threads)
+    app.add_middleware(SecurityHeaders, docs_path="/api/v1/docs", https=settings.cookie_secure)
     app.mount("/static", StaticFiles(directory=str(REPO_ROOT / "static")), name="static")
 
     from .routes import admin, api, auth, pages, parts, review, revisions
@@ -83,8 +200,9 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
     app.include_router(api.router, prefix="/api/v1")
 
     @app.get("/healthz", include_in_schema=False)
-    def healthz() -> PlainTextResponse:
-        """A trivial endpoint (no database): the benchmark's reference, and a liveness probe."""
+    async def healthz() -> PlainTextResponse:
+        """A trivial endpoint (no database): the benchmark's reference, and a liveness probe.
+        It answers on the event loop, so an answer shows the loop is not held up."""
         return PlainTextResponse("ok")
 
     _install_error_handlers(app)
@@ -144,9 +262,12 @@ def _install_error_handlers(app: FastAPI) -> None:
 
     @app.exception_handler(StarletteHTTPException)
     async def _http(request: Request, exc: StarletteHTTPException):
+        headers = getattr(exc, "headers", None)  # Retry-After on 429
         if _wants_json(request):
-            return JSONResponse({"detail": exc.detail}, status_code=exc.status_code)
-        return _error_page(request, exc.status_code, str(exc.detail), [])
+            return JSONResponse({"detail": exc.detail}, status_code=exc.status_code, headers=headers)
+        response = _error_page(request, exc.status_code, str(exc.detail), [])
+        response.headers.update(headers or {})
+        return response
 
 
 def route_table(app: FastAPI) -> list[tuple[str, str]]:

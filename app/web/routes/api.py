@@ -11,13 +11,13 @@ from pydantic import BaseModel, Field
 
 from app.engine import ENGINE_VERSION
 
-from ..deps import DB, Designer, MaybeUser, Viewer
+from ..deps import DB, DbRoute, Designer, MaybeUser, Viewer, record_sign_in, refuse_sign_in, sign_in_wait
 from ..services import fixtures, parts, revisions, users
 from ..services.errors import InputProblems
 from ..services.reports import evaluate_document
 from ..services.revisions import validate_document
 
-router = APIRouter(tags=["api"])
+router = APIRouter(tags=["api"], route_class=DbRoute)
 
 
 # ---------------------------------------------------------------- session
@@ -48,10 +48,14 @@ def session_info(request: Request, user: MaybeUser):
 @router.post("/session", response_model=SessionOut)
 def sign_in(request: Request, db: DB, body: SignIn):
     """Sign in; the session is renewed, so take the new csrf_token from the answer."""
+    wait = sign_in_wait(request, body.name)
+    if wait is not None:
+        raise refuse_sign_in(wait)
     user = users.authenticate(db, body.name, body.password)
+    record_sign_in(request, body.name, user is not None)
     if user is None:
         raise InputProblems([("password", "that name and password do not match an active account")], 401)
-    request.state.session = request.app.state.signer.new(user.id)
+    request.state.session = request.app.state.signer.new(user.id, user.session_generation)
     request.state.session_renewed = True
     return _session_out(request, user)
 

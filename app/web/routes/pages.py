@@ -6,12 +6,12 @@ from fastapi import APIRouter, Request
 from fastapi.responses import RedirectResponse
 from markupsafe import Markup
 
-from ..deps import DB, Designer, Viewer
+from ..deps import DB, DbRoute, Designer, PostedForm, Viewer
 from ..services import fixtures
 from ..services.errors import InputProblems
 from ..templating import render
 
-router = APIRouter(include_in_schema=False)
+router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
 
 def _overview_html(request: Request, db) -> Markup:
@@ -31,8 +31,7 @@ def home(request: Request, db: DB, user: Viewer):
 
 
 @router.post("/fixtures")
-async def create_fixture(request: Request, db: DB, user: Designer):
-    form = await request.form()
+def create_fixture(request: Request, db: DB, user: Designer, form: PostedForm):
     values = {k: str(form.get(k, "")) for k in ("name", "description")}
     try:
         fixture = fixtures.create_fixture(db, values["name"], values["description"])
@@ -55,8 +54,7 @@ def fixture_page(request: Request, db: DB, user: Viewer, fixture_id: int):
 
 
 @router.post("/fixtures/{fixture_id}/channels")
-async def create_channel(request: Request, db: DB, user: Designer, fixture_id: int):
-    form = await request.form()
+def create_channel(request: Request, db: DB, user: Designer, fixture_id: int, form: PostedForm):
     values = {k: str(form.get(k, "")) for k in ("name", "load")}
     mains = form.get("mains_load") in ("on", "true", "1")
     try:

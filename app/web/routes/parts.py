@@ -6,14 +6,14 @@ from __future__ import annotations
 from fastapi import APIRouter, Request
 from fastapi.responses import RedirectResponse, Response
 
-from ..deps import DB, Designer, Viewer
+from ..deps import DB, DbRoute, Designer, PostedForm, Viewer
 from ..models import PART_KINDS
 from ..services import parts
 from ..services.documents import SLOT_KINDS
 from ..services.errors import InputProblems
 from ..templating import render
 
-router = APIRouter(include_in_schema=False)
+router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
 
 def _kind(kind: str | None) -> str | None:
@@ -86,8 +86,7 @@ def _params(values: dict[str, str]) -> dict[str, str]:
 
 
 @router.post("/parts")
-async def create_part(request: Request, db: DB, user: Designer):
-    form = await request.form()
+def create_part(request: Request, db: DB, user: Designer, form: PostedForm):
     kind = _kind(str(form.get("kind", ""))) or "transistor"
     values = _values(form, kind)
     try:
@@ -108,8 +107,7 @@ def export_parts(db: DB, user: Viewer, kind: str):
 
 
 @router.post("/parts/import")
-async def import_parts(request: Request, db: DB, user: Designer):
-    form = await request.form()
+def import_parts(request: Request, db: DB, user: Designer, form: PostedForm):
     kind = _kind(str(form.get("kind", ""))) or "transistor"
     upload = form.get("file")
     problems: list[str] = []
@@ -118,7 +116,7 @@ async def import_parts(request: Request, db: DB, user: Designer):
         problems.append("file: choose a CSV file whose first row names the columns")
     else:
         try:
-            text = (await upload.read(2_000_001)).decode("utf-8-sig")
+            text = upload.file.read(2_000_001).decode("utf-8-sig")
             imported = parts.import_csv(db, kind, text)
         except UnicodeDecodeError:
             problems.append("file: not UTF-8 text")
@@ -148,9 +146,9 @@ def edit_part_page(request: Request, db: DB, user: Designer, part_id: int):
 
 
 @router.post("/parts/{part_id}")
-async def update_part(request: Request, db: DB, user: Designer, part_id: int):
+def update_part(request: Request, db: DB, user: Designer, part_id: int, form: PostedForm):
     part = parts.get_part(db, part_id)
-    values = _values(await request.form(), part.kind)
+    values = _values(form, part.kind)
     try:
         parts.update_part(db, part_id, values["name"], _params(values), values["notes"])
     except InputProblems as exc:

@@ -12,12 +12,12 @@ from typing import Annotated
 from fastapi import APIRouter, File, Form, Request, UploadFile
 from fastapi.responses import RedirectResponse, Response
 
-from ..deps import DB, Viewer
+from ..deps import DB, DbRoute, Viewer
 from ..services import record, review
 from ..services.errors import InputProblems
 from ..templating import render
 
-router = APIRouter(include_in_schema=False)
+router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
 
 def _back(revision_id: int) -> RedirectResponse:

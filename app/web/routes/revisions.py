@@ -10,7 +10,7 @@ from markupsafe import Markup
 
 from app.engine import DesignError
 
-from ..deps import DB, Designer, Viewer
+from ..deps import DB, DbRoute, Designer, PostedForm, Viewer
 from ..services import fixtures, record, revision_form, revisions, trail
 from ..services.documents import canonical_json
 from ..services.errors import InputProblems
@@ -18,11 +18,11 @@ from ..services.parts import search_parts
 from ..services.reports import evaluate_document
 from ..templating import render
 
-router = APIRouter(include_in_schema=False)
+router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
 
 @router.get("/revisions/{revision_id}")
-async def revision_page(request: Request, db: DB, user: Viewer, revision_id: int):
+def revision_page(request: Request, db: DB, user: Viewer, revision_id: int):
     # The report never changes for a content hash; state, comments and waivers change with the
     # trail, so the revision's newest trail entry is part of the key (one indexed lookup).
     can_edit = user.role in ("designer", "admin")
@@ -103,8 +103,8 @@ def new_revision_page(request: Request, db: DB, user: Designer, channel_id: int)
 
 
 @router.post("/channels/{channel_id}/preview")
-async def preview(request: Request, db: DB, user: Designer, channel_id: int):
-    values = revision_form.values_from_form(await request.form())
+def preview(request: Request, db: DB, user: Designer, channel_id: int, form: PostedForm):
+    values = revision_form.values_from_form(form)
     report, errors = _preview(db, values)
     context = _form_context(db, channel_id, values, errors)
     refresh_fields = request.headers.get("HX-Trigger-Name") in ("drive.kind", "clamp.kind")
@@ -114,8 +114,7 @@ async def preview(request: Request, db: DB, user: Designer, channel_id: int):
 
 
 @router.post("/channels/{channel_id}/revisions")
-async def save_revision(request: Request, db: DB, user: Designer, channel_id: int):
-    form = await request.form()
+def save_revision(request: Request, db: DB, user: Designer, channel_id: int, form: PostedForm):
     values = revision_form.values_from_form(form)
     values["change_note"] = str(form.get("change_note", "")).strip()
     try:
@@ -134,8 +133,7 @@ MAX_UPLOAD = 1_000_000
 
 
 @router.post("/channels/{channel_id}/upload")
-async def upload_revision(request: Request, db: DB, user: Designer, channel_id: int):
-    form = await request.form()
+def upload_revision(request: Request, db: DB, user: Designer, channel_id: int, form: PostedForm):
     upload = form.get("file")
     change_note = str(form.get("change_note", ""))
     problems: list[str] = []
@@ -143,7 +141,7 @@ async def upload_revision(request: Request, db: DB, user: Designer, channel_id: 
     if upload is None or isinstance(upload, str) or not upload.filename:
         problems.append("file: choose a design file (JSON, clampdown-design/1)")
     else:
-        raw = await upload.read(MAX_UPLOAD + 1)
+        raw = upload.file.read(MAX_UPLOAD + 1)
         if len(raw) > MAX_UPLOAD:
             problems.append(f"file: larger than {MAX_UPLOAD // 1000} kB; a design file is a few kB")
         else:
