@@ -6,12 +6,13 @@ from __future__ import annotations
 from datetime import datetime
 from typing import Annotated, Any
 
-from fastapi import APIRouter, Body, Request
+from fastapi import APIRouter, Body, Query, Request, Response
 from pydantic import BaseModel, Field
 
 from app.engine import ENGINE_VERSION
 
 from ..deps import DB, DbRoute, Designer, MaybeUser, Viewer, record_sign_in, refuse_sign_in, sign_in_wait
+from ..paging import MAX_OFFSET
 from ..services import fixtures, parts, revisions, users
 from ..services.errors import InputProblems
 from ..services.reports import evaluate_document
@@ -186,10 +187,41 @@ def _fixture(f, channels) -> FixtureOut:
     )
 
 
+Limit = Annotated[
+    int | None,
+    Query(ge=1, description="how many to return (default: the page size setting; at most api_max_limit)"),
+]
+Offset = Annotated[int, Query(ge=0, le=MAX_OFFSET, description="how many to skip")]
+
+
+def _limit(request: Request, limit: int | None) -> int:
+    settings = request.app.state.settings
+    if limit is None:
+        return settings.page_size
+    if limit > settings.api_max_limit:
+        raise InputProblems([("limit", f"at most {settings.api_max_limit}")])
+    return limit
+
+
+def _link_next(request: Request, response: Response, limit: int, offset: int, total: int) -> None:
+    """Paging headers: X-Total-Count, and a Link to the next page (RFC 8288) while there is one."""
+    response.headers["X-Total-Count"] = str(total)
+    if offset + limit < total:
+        url = request.url.include_query_params(limit=limit, offset=offset + limit)
+        response.headers["Link"] = f'<{url.path}?{url.query}>; rel="next"'
+
+
 @router.get("/fixtures", response_model=list[FixtureOut])
-def list_fixtures(db: DB, user: Viewer):
-    """Every fixture, each channel with its latest revision's status."""
-    return [_fixture(f, channels) for f, channels in fixtures.overview(db)]
+def list_fixtures(
+    request: Request, response: Response, db: DB, user: Viewer, limit: Limit = None, offset: Offset = 0
+):
+    """Fixtures by name, a page at a time (limit, offset), each channel with its latest
+    revision's status. X-Total-Count gives the number of fixtures; a Link header with rel="next"
+    points to the next page while there is one."""
+    limit = _limit(request, limit)
+    page = [_fixture(f, channels) for f, channels in fixtures.overview(db, limit=limit, offset=offset)]
+    _link_next(request, response, limit, offset, fixtures.count_fixtures(db))
+    return page
 
 
 @router.post("/fixtures", response_model=FixtureOut, status_code=201)
@@ -213,10 +245,25 @@ class ChannelDetail(ChannelOut):
 
 
 @router.get("/channels/{channel_id}", response_model=ChannelDetail)
-def get_channel(db: DB, user: Viewer, channel_id: int):
+def get_channel(
+    request: Request,
+    response: Response,
+    db: DB,
+    user: Viewer,
+    channel_id: int,
+    limit: Limit = None,
+    offset: Offset = 0,
+):
+    """The channel with its latest revision and a page of its revisions, newest first (limit,
+    offset; X-Total-Count and a Link rel="next" header as for the fixture list)."""
     channel = fixtures.get_channel(db, channel_id)
-    history = fixtures.history(db, channel_id)
-    base = _channel(channel, history[0] if history else None)
+    limit = _limit(request, limit)
+    history = fixtures.history(db, channel_id, limit=limit, offset=offset)
+    latest = (
+        history[0] if history and offset == 0 else next(iter(fixtures.history(db, channel_id, limit=1)), None)
+    )
+    _link_next(request, response, limit, offset, fixtures.count_revisions(db, channel_id))
+    base = _channel(channel, latest)
     return ChannelDetail(**base.model_dump(), revisions=[_summary(r) for r in history])
 
 

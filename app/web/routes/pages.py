@@ -2,11 +2,14 @@
 
 from __future__ import annotations
 
-from fastapi import APIRouter, Request
+from typing import Annotated
+
+from fastapi import APIRouter, Query, Request
 from fastapi.responses import RedirectResponse
 from markupsafe import Markup
 
 from ..deps import DB, DbRoute, Designer, PostedForm, Viewer
+from ..paging import MAX_PAGE, Page
 from ..services import fixtures
 from ..services.errors import InputProblems
 from ..templating import render
@@ -14,20 +17,36 @@ from ..templating import render
 router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
 
-def _overview_html(request: Request, db) -> Markup:
-    """The fixtures list, rendered once per overview version (see fixtures.overview_version)."""
-    key = ("home", fixtures.overview_version(db))
+def _overview_html(request: Request, db, page: Page) -> Markup:
+    """One page of the fixtures list, rendered once per page and overview version (see
+    fixtures.overview_version)."""
+    key = ("home", page.number, page.size, fixtures.overview_version(db))
     html = request.app.state.fragments.get(key)
     if html is None:
         template = request.app.state.templates.get_template("partials/_overview.html")
-        html = Markup(template.render(overview=fixtures.overview(db)))
+        html = Markup(template.render(overview=fixtures.overview(db, limit=page.size, offset=page.offset)))
         request.app.state.fragments.put(key, html)
     return html
 
 
+def _home_page(request: Request, db, number: int) -> Page:
+    return Page.of(number, request.app.state.settings.page_size, fixtures.count_fixtures(db))
+
+
+PageNumber = Annotated[int, Query(ge=1, le=MAX_PAGE, description="page number, from 1")]
+
+
 @router.get("/")
-def home(request: Request, db: DB, user: Viewer):
-    return render(request, "home.html", overview_html=_overview_html(request, db), errors={}, form={})
+def home(request: Request, db: DB, user: Viewer, page: PageNumber = 1):
+    shown = _home_page(request, db, page)
+    return render(
+        request,
+        "home.html",
+        overview_html=_overview_html(request, db, shown),
+        page=shown,
+        errors={},
+        form={},
+    )
 
 
 @router.post("/fixtures")
@@ -36,11 +55,13 @@ def create_fixture(request: Request, db: DB, user: Designer, form: PostedForm):
     try:
         fixture = fixtures.create_fixture(db, values["name"], values["description"])
     except InputProblems as exc:
+        shown = _home_page(request, db, 1)
         return render(
             request,
             "home.html",
             status_code=422,
-            overview=fixtures.overview(db),
+            overview_html=_overview_html(request, db, shown),
+            page=shown,
             errors=dict(exc.problems),
             form=values,
         )
@@ -73,14 +94,18 @@ def create_channel(request: Request, db: DB, user: Designer, fixture_id: int, fo
     return RedirectResponse(f"/channels/{channel.id}", status_code=303)
 
 
-@router.get("/channels/{channel_id}")
-def channel_page(request: Request, db: DB, user: Viewer, channel_id: int):
+def channel_context(request: Request, db, channel_id: int, number: int = 1) -> dict:
+    """The channel page: the channel, its fixture, and one page of its history, newest first."""
     channel = fixtures.get_channel(db, channel_id)
-    return render(
-        request,
-        "channel.html",
-        channel=channel,
-        fixture=fixtures.get_fixture(db, channel.fixture_id),
-        history=fixtures.history(db, channel_id),
-        upload_errors=[],
-    )
+    page = Page.of(number, request.app.state.settings.page_size, fixtures.count_revisions(db, channel_id))
+    return {
+        "channel": channel,
+        "fixture": fixtures.get_fixture(db, channel.fixture_id),
+        "history": fixtures.history(db, channel_id, limit=page.size, offset=page.offset),
+        "page": page,
+    }
+
+
+@router.get("/channels/{channel_id}")
+def channel_page(request: Request, db: DB, user: Viewer, channel_id: int, page: PageNumber = 1):
+    return render(request, "channel.html", **channel_context(request, db, channel_id, page), upload_errors=[])

@@ -17,6 +17,7 @@ from ..services.errors import InputProblems
 from ..services.parts import search_parts
 from ..services.reports import evaluate_document
 from ..templating import render
+from .pages import channel_context
 
 router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
@@ -157,14 +158,11 @@ def upload_revision(request: Request, db: DB, user: Designer, channel_id: int, f
             problems += [f"{p}: {m}" for p, m in exc.problems]
         except DesignError as exc:  # pragma: no cover - create_revision converts these
             problems += exc.problems
-    channel = fixtures.get_channel(db, channel_id)
     return render(
         request,
         "channel.html",
         status_code=422,
-        channel=channel,
-        fixture=fixtures.get_fixture(db, channel.fixture_id),
-        history=fixtures.history(db, channel_id),
+        **channel_context(request, db, channel_id),
         upload_errors=problems,
     )
 
