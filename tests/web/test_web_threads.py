@@ -115,3 +115,13 @@ def test_routes_release_their_connection_before_the_response(world):
     for path in ("/", "/parts", "/api/v1/fixtures", "/api/v1/session"):
         assert client.get(path).status_code == 200
         assert pool.checkedout() == 0, path
+
+
+def test_every_route_that_receives_the_session_closes_it_in_its_own_thread(app):
+    """A route taking the session must be a DbRoute (its plain-function endpoint closes the
+    session as it returns); otherwise the session would be closed later, on the event loop."""
+    takers = [
+        r for r in _routes(app.router.routes) if any(d.call is get_db for d in r.dependant.dependencies)
+    ]
+    assert len(takers) > 30
+    assert [r.path for r in takers if not isinstance(r, DbRoute) or _is_async(r.endpoint)] == []
