@@ -5,7 +5,10 @@ holds 100 reports as it would after a team's history), serves with uvicorn, and 
 at 50 concurrent connections: requests per second, p50 and p99. Uses wrk when installed,
 otherwise an async httpx load generator. Prints ratios to the trivial endpoint.
 
-    python benchmarks/web.py [--seconds 10] [--connections 50]
+    python benchmarks/web.py [--seconds 10] [--connections 50] [--database-url URL]
+
+--database-url runs it on that database instead of a fresh SQLite file (PostgreSQL: give an
+empty database of your own; its public schema is dropped and made anew).
 
 Goal: revision page >= 40 % of the trivial endpoint's throughput, p99 under 60 ms.
 """
@@ -31,8 +34,10 @@ import httpx
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
+from sqlalchemy import text  # noqa: E402
 from sqlmodel import Session, select  # noqa: E402
 
+from app.web.config import normalise_database_url  # noqa: E402
 from app.web.db import make_engine, migrate  # noqa: E402
 from app.web.demo import DEMO_PASSWORD, load_seed, resolve_parts  # noqa: E402
 from app.web.models import Channel, Fixture, Revision, User  # noqa: E402
@@ -46,6 +51,9 @@ CHANNELS, PER_CHANNEL, DESIGNS = 200, 50, 100
 def build(url: str) -> int:
     """Demo data plus 10,000 revisions; returns the id of a revision to fetch."""
     engine = make_engine(url)
+    if engine.dialect.name == "postgresql":
+        with engine.begin() as connection:  # start from an empty schema
+            connection.execute(text("DROP SCHEMA public CASCADE; CREATE SCHEMA public"))
     migrate(engine)
     with Session(engine, expire_on_commit=False) as db:
         load_seed(db)
@@ -161,9 +169,14 @@ def main() -> None:
     parser.add_argument("--seconds", type=int, default=10)
     parser.add_argument("--connections", type=int, default=50)
     parser.add_argument("--workers", type=int, default=1, help="uvicorn worker processes")
+    parser.add_argument("--database-url", default="", help="an empty database to use instead of SQLite")
     args = parser.parse_args()
     workdir = Path(tempfile.mkdtemp(prefix="clampdown-bench-"))
-    url = f"sqlite:///{workdir / 'bench.sqlite3'}"
+    url = (
+        normalise_database_url(args.database_url)
+        if args.database_url
+        else f"sqlite:///{workdir / 'bench.sqlite3'}"
+    )
     revision_id = build(url)
     port = free_port()
     env = {"CLAMPDOWN_DATA_DIR": str(workdir), "CLAMPDOWN_DATABASE_URL": url, "PATH": "/usr/bin:/bin"}

@@ -6,9 +6,13 @@ import secrets
 from functools import lru_cache
 from pathlib import Path
 
+from pydantic import Field
 from pydantic_settings import BaseSettings, SettingsConfigDict
 
 REPO_ROOT = Path(__file__).resolve().parents[2]
+# Worker threads for routes and dependencies that use the database, and the pool beside them.
+DEFAULT_THREADS = 16
+DEFAULT_POOL_OVERFLOW = 8
 
 
 def shipped(name: str) -> Path:
@@ -37,8 +41,26 @@ class Settings(BaseSettings):
     # The printed record re-verifies the trail when anything verified changed, and at least
     # this often (seconds) in case the database's change counter was tampered with too.
     record_check_max_age: float = 300.0
-    # Only for the screenshot script and tests; never set in production.
+    # Mark the session cookie Secure (sent over HTTPS only): set it wherever the app is served
+    # over HTTPS, directly or behind a proxy that terminates TLS.
     cookie_secure: bool = False
+    # Concurrency: the thread pool that runs every route and dependency using the database,
+    # and the connection pool sized from it (threads + overflow; see db.make_engine).
+    threads: int = Field(DEFAULT_THREADS, ge=1, le=1000)
+    db_pool_overflow: int = Field(DEFAULT_POOL_OVERFLOW, ge=0, le=1000)
+    # Request bodies, in bytes, refused with 413 before they are parsed: forms, the JSON API,
+    # and file uploads (parts CSV, design files).
+    body_limit_form: int = Field(256_000, ge=1024)
+    body_limit_json: int = Field(1_000_000, ge=1024)
+    body_limit_upload: int = Field(2_100_000, ge=1024)
+    # Sign-in throttle: failed attempts allowed per account and per client address within the
+    # window; beyond them, 429 with Retry-After until the window has passed.
+    signin_failures_per_account: int = Field(10, ge=1)
+    signin_failures_per_address: int = Field(50, ge=1)
+    signin_window_seconds: int = Field(900, ge=1)
+    # Lists that grow with what is stored are shown a page at a time.
+    page_size: int = Field(50, ge=1, le=1000)
+    api_max_limit: int = Field(500, ge=1)
 
     def database_url_or_default(self) -> str:
         """The database URL, or the SQLite file in the data directory when none is set."""

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import asyncio
 from collections.abc import Iterator
 from contextlib import contextmanager
 
@@ -10,19 +11,19 @@ from alembic.config import Config
 from sqlalchemy import Engine, event
 from sqlmodel import Session, create_engine
 
-from .config import REPO_ROOT, shipped
+from .config import DEFAULT_POOL_OVERFLOW, DEFAULT_THREADS, REPO_ROOT, shipped
 
 
-def make_engine(url: str) -> Engine:
-    """An engine for SQLite (WAL mode, foreign keys on) or PostgreSQL (psycopg 3)."""
+def make_engine(url: str, threads: int = DEFAULT_THREADS, overflow: int = DEFAULT_POOL_OVERFLOW) -> Engine:
+    """An engine for SQLite (WAL mode, foreign keys on) or PostgreSQL (psycopg 3).
+
+    The pool holds one connection per worker thread (``threads``, the size of the thread pool
+    the routes run in) plus ``overflow`` for work outside requests: a request holds a connection
+    only inside one worker-thread call, so a thread never waits for one. The engine refuses
+    use from the event loop's thread (guard_event_loop)."""
+    pool = {"pool_size": threads, "max_overflow": overflow, "pool_timeout": 30}
     if url.startswith("sqlite"):
-        engine = create_engine(
-            # No overflow limit: a wait for a pooled connection must never stall the event loop.
-            url,
-            connect_args={"check_same_thread": False, "timeout": 30},
-            pool_size=20,
-            max_overflow=-1,
-        )
+        engine = create_engine(url, connect_args={"check_same_thread": False, "timeout": 30}, **pool)
 
         @event.listens_for(engine, "connect")
         def _pragmas(dbapi_connection, _record):
@@ -32,8 +33,36 @@ def make_engine(url: str) -> Engine:
             cursor.execute("PRAGMA synchronous=NORMAL")
             cursor.close()
 
-        return engine
-    return create_engine(url, pool_size=10, max_overflow=20, pool_pre_ping=True)
+    else:
+        engine = create_engine(url, pool_pre_ping=True, **pool)
+    guard_event_loop(engine)
+    return engine
+
+
+class DatabaseOnEventLoop(RuntimeError):
+    """Database work was attempted on the event loop's thread (see DEVELOPERS.md)."""
+
+
+def _on_event_loop() -> bool:
+    try:
+        asyncio.get_running_loop()
+    except RuntimeError:
+        return False
+    return True
+
+
+def guard_event_loop(engine: Engine) -> None:
+    """Refuse a pooled connection on the thread that runs the event loop. A blocking wait there
+    (for the pool, a lock, SQLite's write lock) would stall every request, and a connection
+    that can only come back on the loop can deadlock it; routes and dependencies that use the
+    database are plain functions, run in worker threads."""
+
+    @event.listens_for(engine, "checkout")
+    def _refuse_on_loop(_dbapi_connection, _record, _proxy):
+        if _on_event_loop():
+            raise DatabaseOnEventLoop(
+                "database used on the event loop's thread: make the route or dependency a plain def"
+            )
 
 
 def alembic_config(url: str) -> Config:

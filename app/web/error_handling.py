@@ -11,6 +11,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import anyio.to_thread
 from fastapi import FastAPI, Request
 from fastapi.exceptions import RequestValidationError
 from fastapi.responses import JSONResponse, PlainTextResponse, RedirectResponse
@@ -101,6 +102,15 @@ def detail(exc: Exception) -> tuple[int, list[dict], dict[str, str] | None]:
     return status, [{"loc": loc, "msg": msg, "type": kind.type} for loc, msg in problems], headers
 
 
+def _look_up_user(request: Request) -> None:
+    from sqlmodel import Session
+
+    from .deps import current_user
+
+    with Session(request.app.state.engine) as db:
+        current_user(request, db)
+
+
 async def handle(request: Request, exc: Exception):
     status, items, headers = detail(exc)
     if request.url.path.startswith("/api/"):
@@ -121,10 +131,10 @@ async def handle(request: Request, exc: Exception):
     title = kind_of(status).title
     if isinstance(exc, CsrfRefused):
         title = "Request refused"
-    if not hasattr(request.state, "user"):  # no route ran (an unknown path): the navigation needs the user
-        from .deps import current_user
-
-        await current_user(request)
+    if not hasattr(request.state, "user") and hasattr(request.state, "session"):
+        # No route ran (an unknown path): the page's navigation needs the user. Database work
+        # runs in a worker thread, never on the event loop (DEVELOPERS.md).
+        await anyio.to_thread.run_sync(_look_up_user, request)
     response = render(request, "error.html", status_code=status, title=title, lines=lines)
     for name, value in (headers or {}).items():
         response.headers[name] = value

@@ -2,7 +2,10 @@
 
 from __future__ import annotations
 
-from fastapi import Depends, FastAPI
+import re
+
+import anyio.to_thread
+from fastapi import Depends, FastAPI, HTTPException
 from fastapi.openapi.docs import get_swagger_ui_html
 from fastapi.responses import HTMLResponse, PlainTextResponse, RedirectResponse
 from fastapi.staticfiles import StaticFiles
@@ -13,7 +16,7 @@ from .config import Settings, get_settings, shipped
 from .db import make_engine
 from .deps import csrf_protect
 from .error_handling import ids_in_range
-from .security import COOKIE_NAME, SessionSigner
+from .security import COOKIE_NAME, SessionSigner, SignInThrottle
 from .templating import FragmentCache, make_templates
 
 
@@ -53,6 +56,110 @@ class SessionCookie:
         await self.app(scope, receive, send_with_cookie)
 
 
+class WorkerThreads:
+    """Pure ASGI middleware: the thread pool that runs plain-function routes and dependencies
+    gets ``threads`` workers (the connection pool is sized from the same number)."""
+
+    def __init__(self, app, threads: int):
+        self.app, self.threads = app, threads
+
+    async def __call__(self, scope, receive, send):
+        limiter = anyio.to_thread.current_default_thread_limiter()
+        if limiter.total_tokens != self.threads:
+            limiter.total_tokens = self.threads
+        await self.app(scope, receive, send)
+
+
+_UPLOAD_PATH = re.compile(r"^/(parts/import|channels/[^/]+/upload)/?$")
+
+
+def body_limit(settings: Settings, path: str) -> tuple[str, int]:
+    """The route kind of a path and its request-body limit in bytes."""
+    if _UPLOAD_PATH.match(path):
+        return "a file upload", settings.body_limit_upload
+    if path.startswith("/api/"):
+        return "the JSON API", settings.body_limit_json
+    return "a form", settings.body_limit_form
+
+
+class BodyLimit:
+    """Pure ASGI middleware: a request body over its route kind's limit is refused with 413
+    before anything parses it: at once when Content-Length says so, otherwise as soon as the
+    bytes received (chunked bodies too) pass the limit."""
+
+    def __init__(self, app, settings: Settings):
+        self.app, self.settings = app, settings
+
+    async def __call__(self, scope, receive, send):
+        if scope["type"] != "http":
+            return await self.app(scope, receive, send)
+        kind, limit = body_limit(self.settings, scope["path"])
+        declared = None
+        for key, value in scope["headers"]:
+            if key == b"content-length":
+                declared = int(value) if value.isdigit() else None
+        received = 0
+
+        def too_large() -> HTTPException:
+            return HTTPException(
+                status_code=413, detail=f"the request body is over {limit:,} bytes, the limit for {kind}"
+            )
+
+        async def receive_limited():
+            nonlocal received
+            if declared is not None and declared > limit:
+                raise too_large()
+            message = await receive()
+            if message["type"] == "http.request":
+                received += len(message.get("body", b""))
+                if received > limit:
+                    raise too_large()
+            return message
+
+        await self.app(scope, receive_limited, send)
+
+
+# The pages load only /static files: htmx (configured not to eval or inject styles, see
+# base.html) and app.js; inline style attributes remain in the templates. The API's docs page
+# loads the vendored Swagger UI with an inline start-up script, so it gets its own policy.
+CSP = (
+    "default-src 'self'; script-src 'self'; style-src 'self' 'unsafe-inline'; img-src 'self' data:; "
+    "object-src 'none'; base-uri 'none'; form-action 'self'; frame-ancestors 'none'"
+)
+DOCS_PATH = "/api/v1/docs"
+CSP_DOCS = (
+    "default-src 'self'; script-src 'self' 'unsafe-inline'; "
+    "style-src 'self' 'unsafe-inline'; img-src 'self' data:; "
+    "object-src 'none'; base-uri 'none'; frame-ancestors 'none'"
+)
+
+
+class SecurityHeaders:
+    """Pure ASGI middleware: Content-Security-Policy, X-Frame-Options, X-Content-Type-Options
+    and Referrer-Policy on every response (and HSTS when the cookie is Secure, i.e. HTTPS)."""
+
+    def __init__(self, app, docs_path: str, https: bool):
+        self.app, self.docs_path, self.https = app, docs_path, https
+
+    async def __call__(self, scope, receive, send):
+        if scope["type"] != "http":
+            return await self.app(scope, receive, send)
+        policy = CSP_DOCS if scope["path"] == self.docs_path else CSP
+
+        async def send_with_headers(message):
+            if message["type"] == "http.response.start":
+                headers = MutableHeaders(scope=message)
+                headers["Content-Security-Policy"] = policy
+                headers["X-Frame-Options"] = "DENY"
+                headers["X-Content-Type-Options"] = "nosniff"
+                headers["Referrer-Policy"] = "same-origin"
+                if self.https:
+                    headers["Strict-Transport-Security"] = "max-age=31536000"
+            await send(message)
+
+        await self.app(scope, receive, send_with_headers)
+
+
 def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
     settings = (settings or get_settings()).resolved()
     app = FastAPI(
@@ -65,15 +172,26 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
         redoc_url=None,
     )
     app.state.settings = settings
-    app.state.engine = engine or make_engine(settings.database_url)
+    app.state.engine = engine or make_engine(
+        settings.database_url, settings.threads, settings.db_pool_overflow
+    )
     app.state.signer = SessionSigner(settings.secret_key, settings.session_days * 86400)
+    app.state.throttle = SignInThrottle(
+        settings.signin_failures_per_account,
+        settings.signin_failures_per_address,
+        settings.signin_window_seconds,
+    )
     app.state.templates = make_templates()
     app.state.fragments = FragmentCache()  # revision page bodies and the home overview
     app.state.trail_checks = {}  # the printed record's verification (services/trail.cached_verification)
     from .services.trail import use_key
 
     use_key(app.state.engine, settings.trail_key)
+    # Outermost last: headers on every answer (errors too), then the body limit, then the cookie.
     app.add_middleware(SessionCookie, signer=app.state.signer, secure=settings.cookie_secure)
+    app.add_middleware(BodyLimit, settings=settings)
+    app.add_middleware(WorkerThreads, threads=settings.threads)
+    app.add_middleware(SecurityHeaders, docs_path=DOCS_PATH, https=settings.cookie_secure)
     app.mount("/static", StaticFiles(directory=str(shipped("static"))), name="static")
 
     from .routes import admin, api, auth, pages, parts, profiles, review, revisions
@@ -82,7 +200,7 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
         app.include_router(module.router)
     app.include_router(api.router, prefix="/api/v1")
 
-    @app.get("/api/v1/docs", include_in_schema=False)
+    @app.get(DOCS_PATH, include_in_schema=False)
     def api_docs() -> HTMLResponse:
         """The API documentation UI, from vendored files (works offline; see static/VENDORED.md)."""
         return get_swagger_ui_html(
@@ -95,11 +213,12 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
 
     @app.get("/docs", include_in_schema=False)
     def docs_redirect() -> RedirectResponse:
-        return RedirectResponse("/api/v1/docs", status_code=307)
+        return RedirectResponse(DOCS_PATH, status_code=307)
 
     @app.get("/healthz", include_in_schema=False)
-    def healthz() -> PlainTextResponse:
-        """A trivial endpoint (no database): the benchmark's reference, and a liveness probe."""
+    async def healthz() -> PlainTextResponse:
+        """A trivial endpoint (no database): the benchmark's reference, and a liveness probe.
+        It answers on the event loop, so an answer shows the loop is not held up."""
         return PlainTextResponse("ok")
 
     error_handling.install(app)

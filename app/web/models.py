@@ -31,6 +31,9 @@ class User(SQLModel, table=True):
     role: str = Field(max_length=20)
     active: bool = True
     created_at: datetime = _when()
+    # Raised to end every session of the account at once (sign-out, password change,
+    # deactivation); a session cookie carries the generation it was issued under.
+    session_generation: int = Field(default=0, sa_column_kwargs={"server_default": "0"})
 
 
 class Part(SQLModel, table=True):

@@ -5,13 +5,13 @@ from __future__ import annotations
 from fastapi import APIRouter, Request
 from fastapi.responses import RedirectResponse
 
-from ..deps import DB, UserManager
+from ..deps import DB, DbRoute, PostedForm, UserManager
 from ..models import ROLES
 from ..services import users
 from ..services.errors import InputProblems
 from ..templating import render
 
-router = APIRouter(include_in_schema=False)
+router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
 
 def _page(request, db, errors=None, form=None, status_code=200):
@@ -32,8 +32,7 @@ def users_page(request: Request, db: DB, user: UserManager):
 
 
 @router.post("/admin/users")
-async def create_user(request: Request, db: DB, user: UserManager):
-    form = await request.form()
+def create_user(request: Request, db: DB, user: UserManager, form: PostedForm):
     values = {k: str(form.get(k, "")) for k in ("name", "password", "role")}
     try:
         users.create_user(db, values["name"], values["password"], values["role"])
@@ -43,8 +42,7 @@ async def create_user(request: Request, db: DB, user: UserManager):
 
 
 @router.post("/admin/users/{user_id}")
-async def update_user(request: Request, db: DB, user: UserManager, user_id: int):
-    form = await request.form()
+def update_user(request: Request, db: DB, user: UserManager, user_id: int, form: PostedForm):
     try:
         users.update_user(db, user_id, str(form.get("role", "")), form.get("active") == "on", user.id)
     except InputProblems as exc:

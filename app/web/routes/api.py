@@ -6,13 +6,25 @@ from __future__ import annotations
 from datetime import UTC, datetime
 from typing import Annotated, Any
 
-from fastapi import APIRouter, Body, Request
+from fastapi import APIRouter, Body, Query, Request, Response
 from pydantic import AfterValidator, BaseModel, Field
 
 from app.engine import ENGINE_VERSION
 from app.engine.design import PART_DETAILS
 
-from ..deps import DB, FixtureEditor, LibraryEditor, MaybeUser, RevisionAuthor, Viewer
+from ..deps import (
+    DB,
+    DbRoute,
+    FixtureEditor,
+    LibraryEditor,
+    MaybeUser,
+    RevisionAuthor,
+    Viewer,
+    record_sign_in,
+    refuse_sign_in,
+    sign_in_wait,
+)
+from ..paging import MAX_OFFSET
 from ..services import fixtures, parts, review, revisions, users
 from ..services.errors import InputProblems
 from ..services.reports import evaluate_document
@@ -42,7 +54,7 @@ _ERRORS = {
         (429, "too many requests; see Retry-After"),
     )
 }
-router = APIRouter(tags=["api"], responses=_ERRORS)
+router = APIRouter(tags=["api"], responses=_ERRORS, route_class=DbRoute)
 
 
 def _utc(value: datetime) -> datetime:
@@ -82,10 +94,14 @@ def session_info(request: Request, user: MaybeUser):
 @router.post("/session", response_model=SessionOut)
 def sign_in(request: Request, db: DB, body: SignIn):
     """Sign in; the session is renewed, so take the new csrf_token from the answer."""
+    wait = sign_in_wait(request, body.name)
+    if wait is not None:
+        raise refuse_sign_in(wait)
     user = users.authenticate(db, body.name, body.password)
+    record_sign_in(request, body.name, user is not None)
     if user is None:
         raise InputProblems([("password", "that name and password do not match an active account")], 401)
-    request.state.session = request.app.state.signer.new(user.id)
+    request.state.session = request.app.state.signer.new(user.id, user.session_generation)
     request.state.session_renewed = True
     return _session_out(request, user)
 
@@ -236,10 +252,41 @@ def _fixture(f, channels) -> FixtureOut:
     )
 
 
+Limit = Annotated[
+    int | None,
+    Query(ge=1, description="how many to return (default: the page size setting; at most api_max_limit)"),
+]
+Offset = Annotated[int, Query(ge=0, le=MAX_OFFSET, description="how many to skip")]
+
+
+def _limit(request: Request, limit: int | None) -> int:
+    settings = request.app.state.settings
+    if limit is None:
+        return settings.page_size
+    if limit > settings.api_max_limit:
+        raise InputProblems([("limit", f"at most {settings.api_max_limit}")])
+    return limit
+
+
+def _link_next(request: Request, response: Response, limit: int, offset: int, total: int) -> None:
+    """Paging headers: X-Total-Count, and a Link to the next page (RFC 8288) while there is one."""
+    response.headers["X-Total-Count"] = str(total)
+    if offset + limit < total:
+        url = request.url.include_query_params(limit=limit, offset=offset + limit)
+        response.headers["Link"] = f'<{url.path}?{url.query}>; rel="next"'
+
+
 @router.get("/fixtures", response_model=list[FixtureOut])
-def list_fixtures(db: DB, user: Viewer):
-    """Every fixture, each channel with its latest revision's status."""
-    return [_fixture(f, channels) for f, channels in fixtures.overview(db)]
+def list_fixtures(
+    request: Request, response: Response, db: DB, user: Viewer, limit: Limit = None, offset: Offset = 0
+):
+    """Fixtures by name, a page at a time (limit, offset), each channel with its latest
+    revision's status. X-Total-Count gives the number of fixtures; a Link header with rel="next"
+    points to the next page while there is one."""
+    limit = _limit(request, limit)
+    page = [_fixture(f, channels) for f, channels in fixtures.overview(db, limit=limit, offset=offset)]
+    _link_next(request, response, limit, offset, fixtures.count_fixtures(db))
+    return page
 
 
 @router.post("/fixtures", response_model=FixtureOut, status_code=201)
@@ -263,10 +310,25 @@ class ChannelDetail(ChannelOut):
 
 
 @router.get("/channels/{channel_id}", response_model=ChannelDetail)
-def get_channel(db: DB, user: Viewer, channel_id: int):
+def get_channel(
+    request: Request,
+    response: Response,
+    db: DB,
+    user: Viewer,
+    channel_id: int,
+    limit: Limit = None,
+    offset: Offset = 0,
+):
+    """The channel with its latest revision and a page of its revisions, newest first (limit,
+    offset; X-Total-Count and a Link rel="next" header as for the fixture list)."""
     channel = fixtures.get_channel(db, channel_id)
-    history = fixtures.history(db, channel_id)
-    base = _channel(channel, history[0] if history else None)
+    limit = _limit(request, limit)
+    history = fixtures.history(db, channel_id, limit=limit, offset=offset)
+    latest = (
+        history[0] if history and offset == 0 else next(iter(fixtures.history(db, channel_id, limit=1)), None)
+    )
+    _link_next(request, response, limit, offset, fixtures.count_revisions(db, channel_id))
+    base = _channel(channel, latest)
     return ChannelDetail(**base.model_dump(), revisions=[_summary(r) for r in history])
 
 

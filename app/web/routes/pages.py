@@ -2,24 +2,28 @@
 
 from __future__ import annotations
 
-from fastapi import APIRouter, Request
+from typing import Annotated
+
+from fastapi import APIRouter, Query, Request
 from markupsafe import Markup
 
-from ..deps import DB, FixtureEditor, Viewer
+from ..deps import DB, DbRoute, FixtureEditor, PostedForm, Viewer
+from ..paging import MAX_PAGE, Page
 from ..services import fixtures, profiles, queues
 from ..services.errors import InputProblems
 from ..templating import redirect_done, render
 
-router = APIRouter(include_in_schema=False)
+router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
 
-def _overview_html(request: Request, db) -> Markup:
-    """The fixtures list, rendered once per overview version (see fixtures.overview_version)."""
-    key = ("home", *fixtures.overview_version(db))
+def _overview_html(request: Request, db, page: Page) -> Markup:
+    """One page of the fixtures list, rendered once per page and overview version (see
+    fixtures.overview_version)."""
+    key = ("home", page.number, page.size, *fixtures.overview_version(db))
     html = request.app.state.fragments.get(key)
     if html is None:
         template = request.app.state.templates.get_template("partials/_overview.html")
-        html = Markup(template.render(overview=fixtures.overview(db)))
+        html = Markup(template.render(overview=fixtures.overview(db, limit=page.size, offset=page.offset)))
         request.app.state.fragments.put(key, html)
     return html
 
@@ -27,7 +31,7 @@ def _overview_html(request: Request, db) -> Markup:
 def _queues(request: Request, db, user) -> queues.Queues:
     """The person's queues, kept until anything is added to the trail (every hand-in, send-back,
     sign-off and save appends an entry, so the overview version moves with them)."""
-    key = ("queues", user.id, user.role, fixtures.overview_version(db))
+    key = ("queues", user.id, user.role, *fixtures.overview_version(db))
     found = request.app.state.fragments.get(key)
     if found is None:
         found = queues.queues_for(db, user)
@@ -35,30 +39,41 @@ def _queues(request: Request, db, user) -> queues.Queues:
     return found
 
 
+def _home_page(request: Request, db, number: int) -> Page:
+    return Page.of(number, request.app.state.settings.page_size, fixtures.count_fixtures(db))
+
+
+PageNumber = Annotated[int, Query(ge=1, le=MAX_PAGE, description="page number, from 1")]
+
+
 @router.get("/")
-def home(request: Request, db: DB, user: Viewer):
+def home(request: Request, db: DB, user: Viewer, page: PageNumber = 1):
+    shown = _home_page(request, db, page)
     return render(
         request,
         "home.html",
         queues=_queues(request, db, user),
-        overview_html=_overview_html(request, db),
+        overview_html=_overview_html(request, db, shown),
+        page=shown,
         errors={},
         form={},
     )
 
 
 @router.post("/fixtures")
-async def create_fixture(request: Request, db: DB, user: FixtureEditor):
-    form = await request.form()
+def create_fixture(request: Request, db: DB, user: FixtureEditor, form: PostedForm):
     values = {k: str(form.get(k, "")) for k in ("name", "description")}
     try:
         fixture = fixtures.create_fixture(db, values["name"], values["description"])
     except InputProblems as exc:
+        shown = _home_page(request, db, 1)
         return render(
             request,
             "home.html",
             status_code=exc.status_code,
-            overview_html=_overview_html(request, db),
+            queues=_queues(request, db, user),
+            overview_html=_overview_html(request, db, shown),
+            page=shown,
             errors=dict(exc.problems),
             form=values,
         )
@@ -88,8 +103,7 @@ def fixture_page(request: Request, db: DB, user: Viewer, fixture_id: int, profil
 
 
 @router.post("/fixtures/{fixture_id}/channels")
-async def create_channel(request: Request, db: DB, user: FixtureEditor, fixture_id: int):
-    form = await request.form()
+def create_channel(request: Request, db: DB, user: FixtureEditor, fixture_id: int, form: PostedForm):
     values = {k: str(form.get(k, "")) for k in ("name", "load")}
     mains = form.get("mains_load") in ("on", "true", "1")
     try:
@@ -109,14 +123,18 @@ async def create_channel(request: Request, db: DB, user: FixtureEditor, fixture_
     return redirect_done(request, f"/channels/{channel.id}", f"Channel “{channel.name}” added.")
 
 
-@router.get("/channels/{channel_id}")
-def channel_page(request: Request, db: DB, user: Viewer, channel_id: int):
+def channel_context(request: Request, db, channel_id: int, number: int = 1) -> dict:
+    """The channel page: the channel, its fixture, and one page of its history, newest first."""
     channel = fixtures.get_channel(db, channel_id)
-    return render(
-        request,
-        "channel.html",
-        channel=channel,
-        fixture=fixtures.get_fixture(db, channel.fixture_id),
-        history=fixtures.history(db, channel_id),
-        upload_errors=[],
-    )
+    page = Page.of(number, request.app.state.settings.page_size, fixtures.count_revisions(db, channel_id))
+    return {
+        "channel": channel,
+        "fixture": fixtures.get_fixture(db, channel.fixture_id),
+        "history": fixtures.history(db, channel_id, limit=page.size, offset=page.offset),
+        "page": page,
+    }
+
+
+@router.get("/channels/{channel_id}")
+def channel_page(request: Request, db: DB, user: Viewer, channel_id: int, page: PageNumber = 1):
+    return render(request, "channel.html", **channel_context(request, db, channel_id, page), upload_errors=[])

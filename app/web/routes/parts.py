@@ -8,14 +8,14 @@ from fastapi.responses import RedirectResponse, Response
 
 from app.engine.design import PART_DETAILS
 
-from ..deps import DB, LibraryEditor, Viewer
+from ..deps import DB, DbRoute, LibraryEditor, PostedForm, Viewer
 from ..models import PART_KINDS
 from ..services import parts
 from ..services.documents import SLOT_KINDS
 from ..services.errors import InputProblems
 from ..templating import redirect_done, render
 
-router = APIRouter(include_in_schema=False)
+router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
 
 def _kind(kind: str | None) -> str | None:
@@ -92,8 +92,7 @@ def _details(values: dict[str, str]) -> dict[str, str]:
 
 
 @router.post("/parts")
-async def create_part(request: Request, db: DB, user: LibraryEditor):
-    form = await request.form()
+def create_part(request: Request, db: DB, user: LibraryEditor, form: PostedForm):
     kind = _kind(str(form.get("kind", ""))) or "transistor"
     values = _values(form, kind)
     try:
@@ -116,8 +115,7 @@ def export_parts(db: DB, user: Viewer, kind: str):
 
 
 @router.post("/parts/import")
-async def import_parts(request: Request, db: DB, user: LibraryEditor):
-    form = await request.form()
+def import_parts(request: Request, db: DB, user: LibraryEditor, form: PostedForm):
     kind = _kind(str(form.get("kind", ""))) or "transistor"
     upload = form.get("file")
     problems: list[str] = []
@@ -127,7 +125,7 @@ async def import_parts(request: Request, db: DB, user: LibraryEditor):
     if upload is None or isinstance(upload, str) or not upload.filename:
         problems.append("file: choose a CSV file whose first row names the columns")
     else:
-        raw = await upload.read(limit + 1)
+        raw = upload.file.read(limit + 1)  # a plain-function route: read in this worker thread
         if len(raw) > limit:  # refused whole: a file cut at the limit would store a cut last row
             status = 413
             problems.append(
@@ -185,9 +183,9 @@ def edit_part_page(request: Request, db: DB, user: LibraryEditor, part_id: int):
 
 
 @router.post("/parts/{part_id}")
-async def update_part(request: Request, db: DB, user: LibraryEditor, part_id: int):
+def update_part(request: Request, db: DB, user: LibraryEditor, part_id: int, form: PostedForm):
     part = parts.get_part(db, part_id)
-    values = _values(await request.form(), part.kind)
+    values = _values(form, part.kind)
     try:
         saved = parts.update_part(
             db, part_id, values["name"], _params(values), values["notes"], _details(values)

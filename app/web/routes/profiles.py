@@ -8,12 +8,12 @@ from fastapi.responses import RedirectResponse
 
 from app.engine.profile import FIGURES, PRESETS, figures_of
 
-from ..deps import DB, ProfileEditor, Viewer
+from ..deps import DB, DbRoute, PostedForm, ProfileEditor, Viewer
 from ..services import fixtures, profiles
 from ..services.errors import InputProblems
 from ..templating import render
 
-router = APIRouter(include_in_schema=False)
+router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
 
 def _figure_values(form) -> dict[str, str]:
@@ -39,8 +39,7 @@ def profiles_page(request: Request, db: DB, user: Viewer):
 
 
 @router.post("/profiles")
-async def create_profile(request: Request, db: DB, user: ProfileEditor):
-    form = await request.form()
+def create_profile(request: Request, db: DB, user: ProfileEditor, form: PostedForm):
     values = {
         "name": str(form.get("name", "")),
         "preset": str(form.get("preset", "general")),
@@ -78,8 +77,7 @@ def profile_page(request: Request, db: DB, user: Viewer, profile_id: int, saved:
 
 
 @router.post("/profiles/{profile_id}/versions")
-async def add_version(request: Request, db: DB, user: ProfileEditor, profile_id: int):
-    form = await request.form()
+def add_version(request: Request, db: DB, user: ProfileEditor, profile_id: int, form: PostedForm):
     figures = _figure_values(form)
     note = str(form.get("note", ""))
     try:
@@ -90,8 +88,7 @@ async def add_version(request: Request, db: DB, user: ProfileEditor, profile_id:
 
 
 @router.post("/fixtures/{fixture_id}/profile")
-async def set_fixture_profile(request: Request, db: DB, user: ProfileEditor, fixture_id: int):
-    form = await request.form()
+def set_fixture_profile(request: Request, db: DB, user: ProfileEditor, fixture_id: int, form: PostedForm):
     chosen = str(form.get("profile", "")).strip()
     if chosen and not chosen.isdigit():
         raise InputProblems([("profile", f"{chosen!r} is not a profile id; choose one from the list")])

@@ -11,13 +11,13 @@ from typing import Annotated
 from fastapi import APIRouter, File, Form, Request, UploadFile
 from fastapi.responses import RedirectResponse, Response
 
-from ..deps import DB, Viewer
+from ..deps import DB, DbRoute, Viewer
 from ..services import record, review, revisions
 from ..services.documents import load_json_file
 from ..services.errors import InputProblems
 from ..templating import redirect_done, render
 
-router = APIRouter(include_in_schema=False)
+router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
 
 def _back(request: Request, db, entry) -> RedirectResponse:

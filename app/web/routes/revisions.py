@@ -10,7 +10,7 @@ from markupsafe import Markup
 
 from app.engine import ENGINE_VERSION, DesignError
 
-from ..deps import DB, RevisionAuthor, Viewer
+from ..deps import DB, DbRoute, PostedForm, RevisionAuthor, Viewer
 from ..permissions import can
 from ..services import findings_view, fixtures, record, revision_form, revisions, trail
 from ..services.documents import canonical_json, load_json_file
@@ -18,12 +18,13 @@ from ..services.errors import InputProblems
 from ..services.parts import search_parts
 from ..services.reports import evaluate_document
 from ..templating import redirect_done, render
+from .pages import channel_context
 
-router = APIRouter(include_in_schema=False)
+router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
 
 @router.get("/revisions/{revision_id}")
-async def revision_page(request: Request, db: DB, user: Viewer, revision_id: int, sort: str = ""):
+def revision_page(request: Request, db: DB, user: Viewer, revision_id: int, sort: str = ""):
     # The body shows the revision, its report, its trail, its author and the revision to compare
     # with (which depends on other revisions): the data version changes with any of them, the
     # engine version with the report. The actions offered depend on who looks and carry the
@@ -108,8 +109,8 @@ def new_revision_page(request: Request, db: DB, user: RevisionAuthor, channel_id
 
 
 @router.post("/channels/{channel_id}/preview")
-async def preview(request: Request, db: DB, user: RevisionAuthor, channel_id: int):
-    values = revision_form.values_from_form(await request.form())
+def preview(request: Request, db: DB, user: RevisionAuthor, channel_id: int, form: PostedForm):
+    values = revision_form.values_from_form(form)
     report, errors = _preview(db, values)
     context = _form_context(db, channel_id, values, errors)
     refresh_fields = request.headers.get("HX-Trigger-Name") in ("drive.kind", "clamp.kind")
@@ -119,8 +120,7 @@ async def preview(request: Request, db: DB, user: RevisionAuthor, channel_id: in
 
 
 @router.post("/channels/{channel_id}/revisions")
-async def save_revision(request: Request, db: DB, user: RevisionAuthor, channel_id: int):
-    form = await request.form()
+def save_revision(request: Request, db: DB, user: RevisionAuthor, channel_id: int, form: PostedForm):
     values = revision_form.values_from_form(form)
     values["change_note"] = str(form.get("change_note", "")).strip()
     try:
@@ -143,8 +143,7 @@ MAX_UPLOAD = 1_000_000
 
 
 @router.post("/channels/{channel_id}/upload")
-async def upload_revision(request: Request, db: DB, user: RevisionAuthor, channel_id: int):
-    form = await request.form()
+def upload_revision(request: Request, db: DB, user: RevisionAuthor, channel_id: int, form: PostedForm):
     upload = form.get("file")
     change_note = str(form.get("change_note", ""))
     problems: list[str] = []
@@ -152,7 +151,7 @@ async def upload_revision(request: Request, db: DB, user: RevisionAuthor, channe
     if upload is None or isinstance(upload, str) or not upload.filename:
         problems.append("file: choose a design file (JSON, clampdown-design/1)")
     else:
-        raw = await upload.read(MAX_UPLOAD + 1)
+        raw = upload.file.read(MAX_UPLOAD + 1)
         if len(raw) > MAX_UPLOAD:
             problems.append(f"file: larger than {MAX_UPLOAD // 1000} kB; a design file is a few kB")
         else:
@@ -168,14 +167,11 @@ async def upload_revision(request: Request, db: DB, user: RevisionAuthor, channe
             problems += [f"{p}: {m}" for p, m in exc.problems]
         except DesignError as exc:  # pragma: no cover - create_revision converts these
             problems += exc.problems
-    channel = fixtures.get_channel(db, channel_id)
     return render(
         request,
         "channel.html",
         status_code=422,
-        channel=channel,
-        fixture=fixtures.get_fixture(db, channel.fixture_id),
-        history=fixtures.history(db, channel_id),
+        **channel_context(request, db, channel_id),
         upload_errors=problems,
     )
 

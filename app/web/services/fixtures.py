@@ -58,8 +58,19 @@ def get_channel(db: Session, channel_id: int) -> Channel:
     return get_or_not_found(db, Channel, channel_id, "channel")
 
 
-def list_fixtures(db: Session) -> list[Fixture]:
-    return list(db.exec(select(Fixture).order_by(Fixture.name)))
+def list_fixtures(db: Session, limit: int | None = None, offset: int = 0) -> list[Fixture]:
+    query = select(Fixture).order_by(Fixture.name, Fixture.id)
+    if limit is not None:
+        query = query.limit(limit).offset(offset)
+    return list(db.exec(query))
+
+
+def count_fixtures(db: Session) -> int:
+    return db.exec(select(func.count()).select_from(Fixture)).one()
+
+
+def count_revisions(db: Session, channel_id: int) -> int:
+    return db.exec(select(func.count()).select_from(Revision).where(Revision.channel_id == channel_id)).one()
 
 
 @dataclass
@@ -146,12 +157,15 @@ def _fill_missing(db: Session, rows: list[RevisionStatus]) -> None:
             row.verdict, row.violations, row.marginals = report.verdict, report.violations, report.marginals
 
 
-def overview(db: Session, fixture_id: int | None = None) -> list[tuple[Fixture, list[ChannelStatus]]]:
-    """Every fixture with each channel's latest revision and its counts, in three queries.
+def overview(
+    db: Session, fixture_id: int | None = None, limit: int | None = None, offset: int = 0
+) -> list[tuple[Fixture, list[ChannelStatus]]]:
+    """Every fixture (or ``limit`` of them from ``offset``, by name) with each channel's latest
+    revision and its counts, in three queries.
 
     The latest revision of each channel is found through the (channel_id, number) unique
     index, one index probe per channel, rather than by grouping every revision."""
-    fixtures = [get_fixture(db, fixture_id)] if fixture_id is not None else list_fixtures(db)
+    fixtures = [get_fixture(db, fixture_id)] if fixture_id is not None else list_fixtures(db, limit, offset)
     ids = [f.id for f in fixtures]
     if not ids:
         return []
@@ -202,10 +216,14 @@ def overview_version(db: Session) -> tuple:
     return (data_version(db), ENGINE_VERSION)
 
 
-def history(db: Session, channel_id: int) -> list[RevisionStatus]:
-    """A channel's revisions, newest first, with the status of each."""
+def history(db: Session, channel_id: int, limit: int | None = None, offset: int = 0) -> list[RevisionStatus]:
+    """A channel's revisions, newest first (``limit`` of them from ``offset``), with the status
+    of each."""
     query = _with_report(select(*_status_columns())).where(Revision.channel_id == channel_id)
-    rows = [RevisionStatus(*row) for row in db.exec(query.order_by(Revision.number.desc()))]
+    query = query.order_by(Revision.number.desc())
+    if limit is not None:
+        query = query.limit(limit).offset(offset)
+    rows = [RevisionStatus(*row) for row in db.exec(query)]
     _fill_missing(db, rows)
     for row in rows:  # newest first: the first signed-off one is the approved baseline
         if row.signed_off:

@@ -10,6 +10,7 @@ from datetime import UTC, datetime
 from sqlmodel import Session, select
 
 from ..models import Channel, Fixture, Revision, TrailEntry, User
+from ..permissions import can
 
 
 @dataclass
@@ -85,11 +86,11 @@ def _drafts(db: Session, author_id: int) -> list[QueueItem]:
 
 
 def queues_for(db: Session, user: User) -> Queues:
-    """The queues this person's role gives them (an admin sees both kinds)."""
+    """The queues this person's actions give them (someone who may both review and author sees both)."""
     queues = Queues()
-    if user.role in ("reviewer", "admin"):
+    if can(user, "review"):
         queues.waiting = _by_trail(db, "in_review", "hand_in", author_id=user.id, mine=False)
-    if user.role in ("designer", "admin"):
+    if can(user, "create_revision"):
         queues.sent_back = list(
             reversed(_by_trail(db, "returned", "send_back", author_id=user.id, mine=True))
         )

@@ -66,7 +66,34 @@ def update_user(db: Session, user_id: int, role: str, active: bool, acting_user_
         problems.append(("role", "you cannot remove your own admin role or deactivate yourself"))
     if problems:
         raise InputProblems(problems)
+    if user.active and not active:
+        user.session_generation += 1  # deactivation ends the account's sessions at once
     user.role, user.active = role, active
+    db.add(user)
+    db.commit()
+    db.refresh(user)
+    return user
+
+
+def end_sessions(db: Session, user_id: int) -> None:
+    """End every session of the account (its cookies stop working at once)."""
+    user = db.get(User, user_id)
+    if user is None:
+        raise NotFound(f"user {user_id}")
+    user.session_generation += 1
+    db.add(user)
+    db.commit()
+
+
+def set_password(db: Session, user_id: int, password: str) -> User:
+    """A new password; every session of the account ends."""
+    user = db.get(User, user_id)
+    if user is None:
+        raise NotFound(f"user {user_id}")
+    if len(password or "") < MIN_PASSWORD:
+        raise InputProblems([("password", f"must be at least {MIN_PASSWORD} characters")])
+    user.password_hash = hash_password(password)
+    user.session_generation += 1
     db.add(user)
     db.commit()
     db.refresh(user)
