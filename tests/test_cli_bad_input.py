@@ -36,7 +36,11 @@ CASES = {
     "not a number": (doc(**{"base.r_series": "lots"}), "base.r_series", "not a number"),
     "wrong unit": (doc(**{"coil.inductance": "5 ms"}), "coil.inductance", "the unit H"),
     "negative inductance": (doc(**{"coil.inductance": "-3 mH"}), "coil.inductance", "must be positive"),
-    "vce_sat at the supply": (doc(**{"switch.vce_sat": 12}), "switch.vce_sat", "below the lowest supply"),
+    "vce_sat at the supply": (
+        doc(**{"supply.nominal": 5, "switch.vce_sat": 5}),
+        "switch.vce_sat",
+        "below the lowest supply",
+    ),
     "unknown clamp kind": (doc(clamp={"kind": "magic"}), "clamp", "kind must be one of"),
     "unknown field": (doc(**{"coil.r_coill": 5}), "coil.r_coill", "not a field"),
     "tolerance out of range": (doc(**{"coil.tolerance": "150%"}), "coil.tolerance", "from 0 up to"),
