@@ -1,6 +1,7 @@
 """The ``clampdown`` command line: check, schema, netlist (and the web app's commands).
 
-Exit codes: 0 no violation, 1 a violation (or a marginal finding with --strict), 2 bad input.
+Exit codes: 0 no violation, 1 a violation (or a marginal finding with --strict), 2 bad input,
+3 an internal error (a bug: one line on standard error asks for the design file).
 """
 
 from __future__ import annotations
@@ -37,10 +38,16 @@ def load_design_file(path: str):
         document = json.loads(text)
     except json.JSONDecodeError as exc:
         raise InputError([f"{path}: not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})"]) from None
+    except RecursionError:
+        raise InputError([f"{path}: the JSON is nested too deep to be a design file"]) from None
+    except ValueError:  # an integer longer than Python converts (thousands of digits)
+        raise InputError([f"{path}: a number in the file has too many digits to be a value"]) from None
     try:
         return parse_design(document)
     except DesignError as exc:
         raise InputError([f"{path}: {line}" for line in exc.problems]) from None
+    except RecursionError:
+        raise InputError([f"{path}: the design file is nested too deep"]) from None
 
 
 def _check(args: argparse.Namespace) -> int:
@@ -49,7 +56,8 @@ def _check(args: argparse.Namespace) -> int:
     design = load_design_file(args.file)
     report = evaluate(design)
     if args.format == "json":
-        print(json.dumps(report, indent=2, ensure_ascii=False))
+        # allow_nan=False: a NaN or an infinity in a report is a bug, never valid JSON.
+        print(json.dumps(report, indent=2, ensure_ascii=False, allow_nan=False))
     else:
         print(render_table(report), end="")
     statuses = {f["status"] for f in report["findings"]}
@@ -129,6 +137,14 @@ def main(argv: list[str] | None = None) -> int:
         for line in exc.lines:
             print(line, file=sys.stderr)
         return 2
+    except Exception as exc:  # noqa: BLE001 — exit 3, never a traceback or 1 (which CI reads as a violation)
+        what = f"{exc.__class__.__name__}: {exc}".splitlines()[0][:300]
+        print(
+            f"clampdown: internal error in `{args.command}` ({what}); this is a bug — "
+            "please report it with the design file that caused it",
+            file=sys.stderr,
+        )
+        return 3
 
 
 if __name__ == "__main__":

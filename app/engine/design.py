@@ -32,7 +32,7 @@ DESIGN_FORMAT = "clampdown-design/1"
 # a supply of 10⁹ V or an ambient of −10⁹ °C is a typing error, not a design.
 QUANTITY_RANGES: dict[str, tuple[float, float]] = {
     "V": (-1000.0, 1000.0),  # up to the low-voltage limit of 1000 V (IEC 60038)
-    "A": (0.0, 1000.0),
+    "A": (1e-12, 1000.0),
     "Ω": (1e-3, 1e9),  # 1 mΩ to 1 GΩ: beyond either end wiring or leakage decides
     "H": (1e-9, 100.0),
     "W": (0.0, 100e3),  # TVS peak pulse ratings reach tens of kW
@@ -130,7 +130,7 @@ def _fraction(value: Any) -> float:
 
 
 Volts = Annotated[float, *_quantity("V")]
-PositiveVolts = Annotated[float, *_quantity("V", positive=True)]
+PositiveVolts = Annotated[float, *_quantity("V", positive=True, low=1e-3)]
 NonNegativeVolts = Annotated[float, *_quantity("V", nonnegative=True)]
 PositiveAmps = Annotated[float, *_quantity("A", positive=True)]
 Ohms = Annotated[float, *_quantity("Ω", positive=True)]
@@ -142,10 +142,10 @@ Celsius = Annotated[float, *_quantity("°C")]
 KelvinPerWatt = Annotated[float, *_quantity("K/W", positive=True)]
 Ratio = Annotated[float, *_quantity("", positive=True)]
 # Narrower ranges where the quantity kind's would admit nonsense for the field.
-BaseEmitterVolts = Annotated[float, *_quantity("V", positive=True, high=5.0)]
+BaseEmitterVolts = Annotated[float, *_quantity("V", positive=True, low=0.1, high=5.0)]
 SaturationVolts = Annotated[float, *_quantity("V", nonnegative=True, high=10.0)]
-ForwardVolts = Annotated[float, *_quantity("V", positive=True, high=10.0)]
-Gain = Annotated[float, *_quantity("", positive=True, high=1e5)]
+ForwardVolts = Annotated[float, *_quantity("V", positive=True, low=0.05, high=10.0)]
+Gain = Annotated[float, *_quantity("", positive=True, low=1.0, high=1e5)]
 Emission = Annotated[float, *_quantity("", positive=True, low=0.5, high=10.0)]
 Kelvin = Annotated[float, *_quantity("K", nonnegative=True)]
 Multiple = Annotated[float, *_quantity("", positive=True, low=1.0, high=100.0)]
@@ -265,7 +265,7 @@ class Diode(Model):
     i_peak: PositiveAmps = Field(description="repetitive / surge peak forward current rating")
     vf: ForwardVolts = Field(description="forward voltage at vf_at")
     vf_at: PositiveAmps = Field(description="current at which vf is specified")
-    is_: Annotated[float, *_quantity("A", positive=True, high=1.0)] | None = Field(
+    is_: Annotated[float, *_quantity("A", positive=True, low=1e-30, high=1.0)] | None = Field(
         None, alias="is", description="SPICE saturation current I_S"
     )
     n: Emission | None = Field(None, description="SPICE emission coefficient")
@@ -577,8 +577,8 @@ def _value_text(value: Any) -> str:
 
     try:
         text = json.dumps(value, ensure_ascii=False)
-    except (TypeError, ValueError):
-        text = repr(value)
+    except (TypeError, ValueError, RecursionError):
+        text = "(nested too deep)" if isinstance(value, (dict, list)) else "(not shown)"
     return text if len(text) <= 60 else text[:57] + "…"
 
 

@@ -60,7 +60,7 @@ def _alternatives(ctx: Context) -> list[dict]:
             {
                 "clamp": label,
                 "time_to_dropout": t if np.isfinite(t) else None,
-                "peak_switch_voltage": float(alt.peak_switch_voltage[0]),
+                "peak_switch_voltage": _num(alt.peak_switch_voltage),
             }
         )
     return out
