@@ -46,7 +46,8 @@ QUANTITY_RANGES: dict[str, tuple[float, float]] = {
 
 
 def _range_text(low: float, high: float, unit: str, positive: bool) -> str:
-    lower = f"above {low:g}" if positive else f"from {low:g}"
+    """ "above 0 to 1000 V" for a positive field, else "from LOW to HIGH" (both included)."""
+    lower = f"above {low:g}" if positive and low == 0 else f"from {low:g}"
     return f"{lower} to {high:g}{(' ' + unit) if unit else ''}"
 
 
@@ -91,7 +92,7 @@ def _number_or_text(
     text = {"type": "string", "description": f'engineering notation, e.g. "4k7" or "120 m{unit}"'}
     number: dict[str, Any] = {"type": "number"}
     if low is not None:
-        number["exclusiveMinimum" if positive else "minimum"] = low
+        number["exclusiveMinimum" if positive and low == 0 else "minimum"] = low
     if high is not None:
         number["maximum"] = high
     schema: dict[str, Any] = {"anyOf": [number, text]}
@@ -475,7 +476,9 @@ ELV_LIMITS = {"ac": 50.0, "dc": 120.0}
 class Load(Model):
     """What the relay's contacts switch."""
 
-    kind: Literal["resistive", "inductive", "motor", "lamp", "capacitive"]
+    kind: Literal["resistive", "inductive", "motor", "lamp", "capacitive"] = Field(
+        description="what the load is; it sets the default inrush multiple"
+    )
     voltage: PositiveVolts = Field(description="load supply voltage (rms for AC)")
     supply: Literal["ac", "dc"] = Field(description='"ac" or "dc" (ripple-free)')
     current: PositiveAmps = Field(description="running (steady) load current")
@@ -525,7 +528,11 @@ class Design(Model):
     switch: Transistor
     coil: Coil
     clamp: Clamp
-    load: Load | None = None
+    load: Load | None = Field(
+        None,
+        description="what the relay's contacts switch, checked against coil.contacts; a load above "
+        "extra-low voltage (50 V AC, 120 V ripple-free DC, IEC 60449 band I) carries the mains caution",
+    )
     switching: Switching = Switching()
     requirements: Requirements = Requirements()
     limits: Limits = Limits()

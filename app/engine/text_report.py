@@ -26,7 +26,7 @@ def render_table(report: dict) -> str:
         "",
     ]
     if report.get("mains_caution"):
-        out[2:2] = [f"CAUTION  {report['mains_caution']}", ""]
+        out[3:3] = [f"CAUTION  {report['mains_caution']}", ""]
     for n, row in enumerate(rows):
         out.append("  ".join(cell.ljust(widths[i]) for i, cell in enumerate(row)).rstrip())
         if n == 0:
