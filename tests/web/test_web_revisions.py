@@ -123,7 +123,7 @@ def test_editing_a_library_part_leaves_stored_revisions_and_reports_unchanged(de
     changed = designer.put(
         f"/api/v1/parts/{pid}", json={"name": part["name"], "params": {**part["params"], "v_pickup": 20}}
     )
-    assert changed.status_code == 200
+    assert changed.status_code == 200, changed.text
     after = [
         (designer.get(f"/api/v1/revisions/{r}").json(), designer.get(f"/api/v1/revisions/{r}/report").json())
         for r in revs

@@ -62,13 +62,17 @@ def sign_in(request: Request, db: DB, body: SignIn):
 class PartIn(BaseModel):
     kind: str
     name: str
-    params: dict[str, str | float | int | None] = Field(default_factory=dict)
+    params: dict[str, str | float | int | None | dict[str, str | float | int | None]] = Field(
+        default_factory=dict
+    )
     notes: str = ""
 
 
 class PartUpdate(BaseModel):
     name: str
-    params: dict[str, str | float | int | None] = Field(default_factory=dict)
+    params: dict[str, str | float | int | None | dict[str, str | float | int | None]] = Field(
+        default_factory=dict
+    )
     notes: str = ""
 
 

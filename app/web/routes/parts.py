@@ -143,7 +143,11 @@ async def import_parts(request: Request, db: DB, user: Designer):
 @router.get("/parts/{part_id}/edit")
 def edit_part_page(request: Request, db: DB, user: Designer, part_id: int):
     part = parts.get_part(db, part_id)
-    values = {"name": part.name, "notes": part.notes, **{k: str(v) for k, v in part.params.items()}}
+    values = {
+        "name": part.name,
+        "notes": part.notes,
+        **{k: str(v) for k, v in parts.flat_params(part.params).items()},
+    }
     return _form(part.kind, part=part, values=values, request=request)
 
 
