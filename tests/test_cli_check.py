@@ -171,3 +171,14 @@ def test_a_mains_load_shows_the_caution_in_the_table_and_the_json():
         ]
         is None
     )
+
+
+def test_every_number_in_the_schema_has_a_documented_range():
+    schema = json.loads(clampdown("schema").stdout)
+    missing = [
+        (model, name)
+        for model, body in schema["$defs"].items()
+        for name, prop in body.get("properties", {}).items()
+        if '"number"' in json.dumps(prop) and "aximum" not in json.dumps(prop)
+    ]
+    assert missing == []

@@ -208,7 +208,9 @@ def operating_point(
         )
         swept, _, sweep_bound = peak_dissipation(vcc, r_load, sweep_low, sweep_high, sw.vce_sat)
         sweep_dissipation = swept + on_base * sw.vbe_sat
-        divider = {**divider, "base_on": base_resistor_current}
+        open_base_off = v_th_off / (1 + (r_th_off + r_series) / r_pulldown)
+        base_off = np.maximum(0.0, (v_th_off - np.minimum(vbe_low, open_base_off)) / (r_th_off + r_series))
+        divider = {**divider, "base_on": base_resistor_current, "base_off": base_off}
 
     return OperatingPoint(
         vcc=vcc,

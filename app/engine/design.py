@@ -150,8 +150,27 @@ Gain = Annotated[float, *_quantity("", positive=True, low=1.0, high=1e5)]
 Emission = Annotated[float, *_quantity("", positive=True, low=0.5, high=10.0)]
 Kelvin = Annotated[float, *_quantity("K", nonnegative=True)]
 Multiple = Annotated[float, *_quantity("", positive=True, low=1.0, high=100.0)]
-Tolerance = Annotated[float, BeforeValidator(_tolerance), _number_or_text("%")]
-Fraction = Annotated[float, BeforeValidator(_fraction), _number_or_text("")]
+_TEXT = {"type": "string", "description": 'e.g. "5%" or "0.8"'}
+Tolerance = Annotated[
+    float,
+    BeforeValidator(_tolerance),
+    WithJsonSchema(
+        {
+            "anyOf": [{"type": "number", "minimum": 0, "exclusiveMaximum": 100}, _TEXT],
+            "description": "in %, allowed from 0 up to (not including) 100",
+        }
+    ),
+]
+Fraction = Annotated[
+    float,
+    BeforeValidator(_fraction),
+    WithJsonSchema(
+        {
+            "anyOf": [{"type": "number", "exclusiveMinimum": 0, "maximum": 1}, _TEXT],
+            "description": "a fraction, allowed above 0 to 1 (or a percentage)",
+        }
+    ),
+]
 
 
 class Model(BaseModel):

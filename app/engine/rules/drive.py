@@ -128,7 +128,7 @@ def reverse_base(ctx: Context) -> Finding:
 def divider_power(ctx: Context) -> Finding | None:
     """Power in the divider's fixed resistor and its sensor, in both sensor states: the divider's
     middle node sits at V_m = V_th − I_Rb·R_th (Thevenin, with the base drawing I_Rb at the lowest
-    V_BE when on), so P_top = (V_src − V_m)²/R_top; the lower resistor is bounded by the
+    conducting V_BE, or only the current into R_be when it stays below that), so P_top = (V_src − V_m)²/R_top; the lower resistor is bounded by the
     unloaded node, P_bottom = V_th²/R_bottom. V_src takes its tolerance (v_source_tolerance, or
     the supply's). Each part with a rating (drive.fixed_power_rating, drive.sensor_power_rating)
     is judged against it, derated by the profile's power fraction; the worse is reported.
@@ -138,11 +138,9 @@ def divider_power(ctx: Context) -> Finding | None:
         return None
     d = op.divider
     powers = {"fixed": [], "sensor": []}
-    off_current = op.v_th_off / (op.r_th_off + op.r_series + op.r_pulldown)
-    off_current = np.where(op.vbe_off > 0, off_current, 0.0)
     for state, v_th, r_th, i_rb in (
         ("on", op.v_th_on, op.r_th_on, d["base_on"]),
-        ("off", op.v_th_off, op.r_th_off, off_current),
+        ("off", op.v_th_off, op.r_th_off, d["base_off"]),
     ):
         v_mid = v_th - i_rb * r_th
         p_top = (d["v_source"] - v_mid) ** 2 / d[f"r_top_{state}"]
