@@ -1,6 +1,7 @@
 """The ``clampdown`` command line: check, schema, netlist (and the web app's commands).
 
-Exit codes: 0 no violation, 1 a violation (or a marginal finding with --strict), 2 bad input.
+Exit codes: 0 no violation, 1 a violation (or a marginal finding with --strict), 2 bad input,
+3 an internal error (a bug: one line on standard error asks for the design file).
 """
 
 from __future__ import annotations
@@ -65,10 +66,18 @@ def load_design_file(path: str):
         raise InputError.about(
             path, [("", f"not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})")]
         ) from None
+    except RecursionError:
+        raise InputError.about(path, [("", "the JSON is nested too deep to be a design file")]) from None
+    except ValueError:  # an integer longer than Python converts (thousands of digits)
+        raise InputError.about(
+            path, [("", "a number in the file has too many digits to be a value")]
+        ) from None
     try:
         return parse_design(document)
     except DesignError as exc:
         raise InputError.about(path, [_split_problem(line) for line in exc.problems]) from None
+    except RecursionError:
+        raise InputError.about(path, [("", "the design file is nested too deep")]) from None
 
 
 def load_profile_file(path: str):
@@ -101,7 +110,8 @@ def _check(args: argparse.Namespace) -> int:
     design = load_design_file(args.file)
     report = evaluate(design, profile)
     if args.format == "json":
-        print(json.dumps(report, indent=2, ensure_ascii=False))
+        # allow_nan=False: a NaN or an infinity in a report is a bug, never valid JSON.
+        print(json.dumps(report, indent=2, ensure_ascii=False, allow_nan=False))
     else:
         print(render_table(report), end="")
     statuses = {f["status"] for f in report["findings"]}
@@ -192,6 +202,16 @@ def main(argv: list[str] | None = None) -> int:
             for line in exc.lines:
                 print(line, file=sys.stderr)
             code = 2
+        except BrokenPipeError:
+            raise
+        except Exception as exc:  # noqa: BLE001 — exit 3, never a traceback or 1 (which CI reads as a violation)
+            what = f"{exc.__class__.__name__}: {exc}".splitlines()[0][:300]
+            print(
+                f"clampdown: internal error in `{args.command}` ({what}); this is a bug — "
+                "please report it with the design file that caused it",
+                file=sys.stderr,
+            )
+            code = 3
         sys.stdout.flush()  # a closed pipe shows here, not at interpreter exit
         return code
     except BrokenPipeError:

@@ -36,7 +36,11 @@ CASES = {
     "not a number": (doc(**{"base.r_series": "lots"}), "base.r_series", "not a number"),
     "wrong unit": (doc(**{"coil.inductance": "5 ms"}), "coil.inductance", "the unit H"),
     "negative inductance": (doc(**{"coil.inductance": "-3 mH"}), "coil.inductance", "must be positive"),
-    "vce_sat at the supply": (doc(**{"switch.vce_sat": 12}), "switch.vce_sat", "below the lowest supply"),
+    "vce_sat at the supply": (
+        doc(**{"supply.nominal": 5, "switch.vce_sat": 5}),
+        "switch.vce_sat",
+        "below the lowest supply",
+    ),
     "unknown clamp kind": (doc(clamp={"kind": "magic"}), "clamp", "kind must be one of"),
     "unknown field": (doc(**{"coil.r_coill": 5}), "coil.r_coill", "not a field"),
     "tolerance out of range": (doc(**{"coil.tolerance": "150%"}), "coil.tolerance", "from 0 up to"),
@@ -116,3 +120,54 @@ def test_missing_file_and_binary_file(tmp_path):
 def test_unknown_option_exits_2(tmp_path):
     result = run_check(tmp_path, doc(), "--colour")
     assert result.returncode == 2
+
+
+def test_json_nested_thousands_deep_exits_2(tmp_path):
+    result = run_check(tmp_path, "[" * 5000 + "]" * 5000)
+    assert result.returncode == 2 and "Traceback" not in result.stderr
+    assert "nested too deep" in result.stderr
+    deep_notes = doc(notes=None).replace('"notes": null', '"notes": ' + '{"a":' * 3000 + "1" + "}" * 3000)
+    result = run_check(tmp_path, deep_notes)
+    assert result.returncode == 2 and "Traceback" not in result.stderr
+
+
+def test_integers_with_thousands_of_digits_exit_2(tmp_path):
+    # Above Python's 4300-digit conversion limit the JSON reader refuses it; below, a float overflows.
+    result = run_check(tmp_path, doc().replace('"hfe_min": 100', '"hfe_min": ' + "9" * 5000))
+    assert result.returncode == 2 and "Traceback" not in result.stderr
+    assert "too many digits" in result.stderr
+    result = run_check(tmp_path, doc().replace('"hfe_min": 100', '"hfe_min": ' + "9" * 400))
+    assert result.returncode == 2
+    assert "switch.hfe_min" in result.stderr and "overflows a float" in result.stderr
+
+
+@pytest.mark.parametrize(
+    ("field", "value", "allowed"),
+    [
+        ("ambient.min", -1e9, "from -70 to 250 °C"),
+        ("supply.nominal", 1e9, "to 1000 V"),
+        ("clamp.diode.vf", "40 MV", "to 10 V"),
+        ("coil.inductance", "1 kH", "to 100 H"),
+        ("switch.hfe_min", 0.5, "from 1 to 100000"),
+    ],
+)
+def test_physically_absurd_values_are_refused_with_the_allowed_range(tmp_path, field, value, allowed):
+    result = run_check(tmp_path, doc(**{field: value}))
+    assert result.returncode == 2, result.stdout
+    line = next(line for line in result.stderr.splitlines() if field in line)
+    assert allowed in line, line
+
+
+def test_an_internal_error_exits_3_with_one_line(monkeypatch, tmp_path, capsys):
+    from app import cli
+
+    def broken(design, profile=None):
+        raise ZeroDivisionError("float division by zero")
+
+    monkeypatch.setattr(cli, "evaluate", broken)
+    path = tmp_path / "d.json"
+    path.write_text(doc())
+    assert cli.main(["check", str(path)]) == 3
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1
+    assert "internal error" in err[0] and "ZeroDivisionError" in err[0] and "design file" in err[0]

@@ -127,3 +127,63 @@ def test_netlist_has_the_engine_values(tmp_path):
 def test_netlist_refuses_an_unclamped_coil(tmp_path):
     result = clampdown("netlist", write(tmp_path, design(clamp={"kind": "none"})))
     assert result.returncode == 2 and "clamp.kind" in result.stderr
+
+
+def _schema_fields(schema: dict, model: str) -> dict:
+    return schema["$defs"][model]["properties"]
+
+
+def test_schema_documents_the_new_fields_and_their_ranges():
+    schema = json.loads(clampdown("schema").stdout)
+    expected = {
+        "Transistor": ("hfe_max", "vbe_sat_min", "vce_sat_min"),
+        "Coil": ("temp_rise", "contacts"),
+        "Contacts": ("current", "voltage_ac", "voltage_dc", "inrush"),
+        "DividerDrive": (
+            "transition",
+            "v_source_tolerance",
+            "fixed_power_rating",
+            "sensor_power_rating",
+        ),
+        "Load": ("kind", "voltage", "supply", "current", "inrush_multiple"),
+    }
+    for model, fields in expected.items():
+        properties = _schema_fields(schema, model)
+        for name in fields:
+            assert name in properties, (model, name)
+            assert json.dumps(properties[name]).count("description") >= 1, (model, name)
+    assert "load" in schema["properties"]
+    # Ranges are in the schema, the same the parser enforces: ambient −70…250 °C
+    ambient_min = _schema_fields(schema, "Ambient")["min"]
+    number = ambient_min["anyOf"][0]
+    assert (number["minimum"], number["maximum"]) == (-70.0, 250.0)
+    assert "allowed from -70 to 250 °C" in ambient_min["description"]
+
+
+def test_a_mains_load_shows_the_caution_in_the_table_and_the_json():
+    path = str(next(p for p in EXAMPLES if p.stem == "greenhouse-fan-mains"))
+    table = clampdown("check", path)
+    assert "CAUTION" in table.stdout and "IEC 60449" in table.stdout and "local codes" in table.stdout
+    report = json.loads(clampdown("check", path, "--format", "json").stdout)
+    assert "licensed practice" in report["mains_caution"]
+    assert {"contacts.current", "contacts.inrush", "contacts.voltage"} <= {
+        f["rule"] for f in report["findings"]
+    }
+    # Without a load there is no caution
+    assert (
+        json.loads(clampdown("check", "-", "--format", "json", stdin=json.dumps(design())).stdout)[
+            "mains_caution"
+        ]
+        is None
+    )
+
+
+def test_every_number_in_the_schema_has_a_documented_range():
+    schema = json.loads(clampdown("schema").stdout)
+    missing = [
+        (model, name)
+        for model, body in schema["$defs"].items()
+        for name, prop in body.get("properties", {}).items()
+        if '"number"' in json.dumps(prop) and "aximum" not in json.dumps(prop)
+    ]
+    assert missing == []

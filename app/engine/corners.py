@@ -61,6 +61,8 @@ def factors(design: Design) -> list[Factor]:
     if isinstance(drive, DividerDrive):
         out.append(Factor("r_fixed", *_spread(drive.r_fixed, drive.tolerance), "Ω"))
         out.append(Factor("sensor_scale", 1 - drive.tolerance, 1 + drive.tolerance, ""))
+        if drive.v_source is not None:
+            out.append(Factor("v_source", *_spread(drive.v_source, drive.source_tolerance), "V"))
     else:
         out.append(Factor("drive_on", drive.high_min, drive.high, "V"))
         out.append(Factor("drive_off", drive.low, drive.low_max, "V"))
@@ -101,6 +103,8 @@ def nominal_corner(design: Design) -> Corners:
     if isinstance(design.drive, DividerDrive):
         values["r_fixed"] = design.drive.r_fixed
         values["sensor_scale"] = 1.0
+        if design.drive.v_source is not None:
+            values["v_source"] = design.drive.v_source
     else:
         values["drive_on"] = design.drive.high
         values["drive_off"] = design.drive.low

@@ -29,26 +29,82 @@ from .units import UnitError, parse_percent, parse_quantity
 DESIGN_FORMAT = "clampdown-design/1"
 
 
-def _quantity(unit: str, *, positive: bool = False, nonnegative: bool = False):
+# The range a real relay driver can have, per quantity kind (unit); a field may narrow it with
+# ``low``/``high``. Values outside are refused by field with the allowed range, never computed:
+# a supply of 10⁹ V or an ambient of −10⁹ °C is a typing error, not a design.
+QUANTITY_RANGES: dict[str, tuple[float, float]] = {
+    "V": (-1000.0, 1000.0),  # up to the low-voltage limit of 1000 V (IEC 60038)
+    "A": (1e-12, 1000.0),
+    "Ω": (1e-3, 1e9),  # 1 mΩ to 1 GΩ: beyond either end wiring or leakage decides
+    "H": (1e-9, 100.0),
+    "W": (0.0, 100e3),  # TVS peak pulse ratings reach tens of kW
+    "s": (0.0, 3600.0),
+    "°C": (-70.0, 250.0),
+    "K": (0.0, 200.0),
+    "K/W": (0.0, 10e3),
+    "/h": (0.0, 3.6e6),  # 1000 operations a second
+    "": (0.0, 1e6),
+}
+
+
+def _range_text(low: float, high: float, unit: str, positive: bool) -> str:
+    """ "above 0 to 1000 V" for a positive field, else "from LOW to HIGH" (both included)."""
+    lower = f"above {low:g}" if positive and low == 0 else f"from {low:g}"
+    return f"{lower} to {high:g}{(' ' + unit) if unit else ''}"
+
+
+def _quantity(
+    unit: str,
+    *,
+    positive: bool = False,
+    nonnegative: bool = False,
+    low: float | None = None,
+    high: float | None = None,
+):
+    """A number in ``unit``: parsed from engineering notation, checked against the field's range
+    (``low``/``high``, else the quantity kind's range in QUANTITY_RANGES), and documented so."""
+    kind_low, kind_high = QUANTITY_RANGES[unit]
+    low = kind_low if low is None else low
+    high = kind_high if high is None else high
+    if positive:
+        low = max(low, 0.0)
+    if nonnegative:
+        low = 0.0
+    allowed = _range_text(low, high, unit, positive)
+
     def parse(value: Any) -> float:
         try:
             number = parse_quantity(value, unit)
         except UnitError as exc:
             raise PydanticCustomError("quantity", str(exc)) from None
         if positive and not number > 0:
-            raise PydanticCustomError("quantity", "must be positive")
+            raise PydanticCustomError("quantity", f"must be positive ({allowed})")
         if nonnegative and number < 0:
-            raise PydanticCustomError("quantity", "must be zero or positive")
+            raise PydanticCustomError("quantity", f"must be zero or positive ({allowed})")
+        if not low <= number <= high:
+            raise PydanticCustomError("quantity", f"is out of range: allowed {allowed}")
         return number
 
-    return BeforeValidator(parse), _number_or_text(unit)
+    return BeforeValidator(parse), _number_or_text(unit, low, high, positive)
 
 
-def _number_or_text(unit: str) -> WithJsonSchema:
+def _number_or_text(
+    unit: str, low: float | None = None, high: float | None = None, positive: bool = False
+) -> WithJsonSchema:
     text = {"type": "string", "description": f'engineering notation, e.g. "4k7" or "120 m{unit}"'}
-    schema: dict[str, Any] = {"anyOf": [{"type": "number"}, text]}
-    if unit:
-        schema["description"] = f"in {unit}"
+    number: dict[str, Any] = {"type": "number"}
+    if low is not None:
+        number["exclusiveMinimum" if positive and low == 0 else "minimum"] = low
+    if high is not None:
+        number["maximum"] = high
+    schema: dict[str, Any] = {"anyOf": [number, text]}
+    description = f"in {unit}" if unit else ""
+    if low is not None and high is not None:
+        description = (
+            (description + ", " if description else "") + "allowed " + _range_text(low, high, unit, positive)
+        )
+    if description:
+        schema["description"] = description
     return WithJsonSchema(schema)
 
 
@@ -77,7 +133,7 @@ def _fraction(value: Any) -> float:
 
 
 Volts = Annotated[float, *_quantity("V")]
-PositiveVolts = Annotated[float, *_quantity("V", positive=True)]
+PositiveVolts = Annotated[float, *_quantity("V", positive=True, low=1e-3)]
 NonNegativeVolts = Annotated[float, *_quantity("V", nonnegative=True)]
 PositiveAmps = Annotated[float, *_quantity("A", positive=True)]
 Ohms = Annotated[float, *_quantity("Ω", positive=True)]
@@ -88,8 +144,35 @@ Seconds = Annotated[float, *_quantity("s", positive=True)]
 Celsius = Annotated[float, *_quantity("°C")]
 KelvinPerWatt = Annotated[float, *_quantity("K/W", positive=True)]
 Ratio = Annotated[float, *_quantity("", positive=True)]
-Tolerance = Annotated[float, BeforeValidator(_tolerance), _number_or_text("%")]
-Fraction = Annotated[float, BeforeValidator(_fraction), _number_or_text("")]
+# Narrower ranges where the quantity kind's would admit nonsense for the field.
+BaseEmitterVolts = Annotated[float, *_quantity("V", positive=True, low=0.1, high=5.0)]
+SaturationVolts = Annotated[float, *_quantity("V", nonnegative=True, high=10.0)]
+ForwardVolts = Annotated[float, *_quantity("V", positive=True, low=0.05, high=10.0)]
+Gain = Annotated[float, *_quantity("", positive=True, low=1.0, high=1e5)]
+Emission = Annotated[float, *_quantity("", positive=True, low=0.5, high=10.0)]
+Kelvin = Annotated[float, *_quantity("K", nonnegative=True)]
+Multiple = Annotated[float, *_quantity("", positive=True, low=1.0, high=100.0)]
+_TEXT = {"type": "string", "description": 'e.g. "5%" or "0.8"'}
+Tolerance = Annotated[
+    float,
+    BeforeValidator(_tolerance),
+    WithJsonSchema(
+        {
+            "anyOf": [{"type": "number", "minimum": 0, "exclusiveMaximum": 100}, _TEXT],
+            "description": "in %, allowed from 0 up to (not including) 100",
+        }
+    ),
+]
+Fraction = Annotated[
+    float,
+    BeforeValidator(_fraction),
+    WithJsonSchema(
+        {
+            "anyOf": [{"type": "number", "exclusiveMinimum": 0, "maximum": 1}, _TEXT],
+            "description": "a fraction, allowed above 0 to 1 (or a percentage)",
+        }
+    ),
+]
 
 
 class Model(BaseModel):
@@ -131,10 +214,25 @@ class Transistor(PartModel):
 
     kind: Literal["npn"] = "npn"
     name: str = Field(min_length=1, max_length=200)
-    hfe_min: Ratio = Field(description="minimum DC current gain h_FE over the operating range")
-    vbe_sat: PositiveVolts = Field(description="V_BE(sat), maximum")
-    vce_sat: NonNegativeVolts = Field(description="V_CE(sat), maximum")
-    vbe_on: PositiveVolts = Field(description="V_BE(on) turn-on voltage at 25 °C")
+    hfe_min: Gain = Field(description="minimum DC current gain h_FE over the operating range")
+    hfe_max: Gain | None = Field(
+        None,
+        description="maximum DC current gain h_FE (optional): without it a switch that is not "
+        "saturated is taken to reach V_CE = V_cc/2, the worst dissipation",
+    )
+    vbe_sat: BaseEmitterVolts = Field(description="V_BE(sat), maximum (decides saturation)")
+    vbe_sat_min: BaseEmitterVolts | None = Field(
+        None,
+        description="V_BE(sat), minimum (optional): the lowest base voltage of a conducting base, "
+        "for the drive-pin current and the base-resistor power; without it the hot V_BE(on)",
+    )
+    vce_sat: SaturationVolts = Field(description="V_CE(sat), maximum")
+    vce_sat_min: SaturationVolts | None = Field(
+        None,
+        description="V_CE(sat), minimum (optional): the stress checks (collector current, coil "
+        "over-voltage, diode reverse voltage) use it; without it 0 V",
+    )
+    vbe_on: BaseEmitterVolts = Field(description="V_BE(on) turn-on voltage at 25 °C")
     vceo: PositiveVolts = Field(description="V_(BR)CEO, minimum collector-emitter breakdown")
     vebo: PositiveVolts = Field(description="V_(BR)EBO, minimum emitter-base breakdown")
     ic_max: PositiveAmps = Field(description="continuous collector current rating")
@@ -146,7 +244,31 @@ class Transistor(PartModel):
     def _consistent(self) -> Transistor:
         if self.tj_max <= 25:
             raise _problem("tj_max must be above 25 °C")
+        if self.hfe_max is not None and self.hfe_max < self.hfe_min:
+            raise _problem(f"hfe_max ({self.hfe_max:g}) must not be below hfe_min ({self.hfe_min:g})")
+        if self.vbe_sat_min is not None and self.vbe_sat_min > self.vbe_sat:
+            raise _problem(
+                f"vbe_sat_min ({self.vbe_sat_min:g} V) must not be above vbe_sat ({self.vbe_sat:g} V)"
+            )
+        if self.vce_sat_min is not None and self.vce_sat_min > self.vce_sat:
+            raise _problem(
+                f"vce_sat_min ({self.vce_sat_min:g} V) must not be above vce_sat ({self.vce_sat:g} V)"
+            )
         return self
+
+    @property
+    def vce_sat_low(self) -> float:
+        """The lowest V_CE(sat): the worst case for a stress (more voltage left for the load)."""
+        return self.vce_sat_min if self.vce_sat_min is not None else 0.0
+
+
+class Contacts(Model):
+    """The relay's contact ratings (datasheet)."""
+
+    current: PositiveAmps = Field(description="rated contact current (continuous / switching)")
+    voltage_ac: PositiveVolts | None = Field(None, description="rated switching voltage, AC (rms)")
+    voltage_dc: PositiveVolts | None = Field(None, description="rated switching voltage, DC")
+    inrush: PositiveAmps | None = Field(None, description="making (inrush) current rating")
 
 
 class Coil(PartModel):
@@ -162,6 +284,12 @@ class Coil(PartModel):
     v_dropout: PositiveVolts = Field(description="must-release (drop-out) voltage at r_at")
     v_max: PositiveVolts = Field(description="maximum continuous coil voltage")
     rth: KelvinPerWatt | None = Field(None, description="coil thermal resistance to ambient")
+    temp_rise: Kelvin | None = Field(
+        None,
+        description="coil temperature rise at nominal voltage, K (datasheet); used when rth is "
+        "absent. With neither, the derating profile's assumed rise is used and the finding says so",
+    )
+    contacts: Contacts | None = Field(None, description="contact ratings, checked against the load")
 
     @model_validator(mode="after")
     def _consistent(self) -> Coil:
@@ -180,12 +308,12 @@ class Diode(PartModel):
     vrrm: PositiveVolts = Field(description="repetitive peak reverse voltage rating")
     if_avg: PositiveAmps = Field(description="average forward current rating")
     i_peak: PositiveAmps = Field(description="repetitive / surge peak forward current rating")
-    vf: PositiveVolts = Field(description="forward voltage at vf_at")
+    vf: ForwardVolts = Field(description="forward voltage at vf_at")
     vf_at: PositiveAmps = Field(description="current at which vf is specified")
-    is_: Annotated[float, *_quantity("A", positive=True)] | None = Field(
+    is_: Annotated[float, *_quantity("A", positive=True, low=1e-30, high=1.0)] | None = Field(
         None, alias="is", description="SPICE saturation current I_S"
     )
-    n: Ratio | None = Field(None, description="SPICE emission coefficient")
+    n: Emission | None = Field(None, description="SPICE emission coefficient")
     rs: NonNegativeOhms | None = Field(None, description="SPICE series resistance")
 
     model_config = ConfigDict(extra="forbid", frozen=True, populate_by_name=True)
@@ -297,6 +425,26 @@ class DividerDrive(Model):
     r_sensor_on: Ohms
     r_sensor_off: Ohms
     tolerance: Tolerance = Field(description="tolerance of the fixed resistor and the sensor")
+    v_source_tolerance: Tolerance | None = Field(
+        None, description="tolerance of v_source, percent (only with v_source; else the supply's)"
+    )
+    transition: Literal["slow", "snap"] = Field(
+        "slow",
+        description='how the sensor changes state: "slow" (photoresistor, thermistor: walks the '
+        'switch through its linear region) or "snap" (float switch, reed contact)',
+    )
+    fixed_power_rating: Watts | None = Field(None, description="power rating of the fixed resistor")
+    sensor_power_rating: Watts | None = Field(None, description="power rating of the sensor")
+
+    @model_validator(mode="after")
+    def _source(self) -> DividerDrive:
+        if self.v_source_tolerance is not None and self.v_source is None:
+            raise _problem("v_source_tolerance needs v_source (without it the divider follows the supply)")
+        return self
+
+    @property
+    def source_tolerance(self) -> float:
+        return self.v_source_tolerance or 0.0
 
 
 Drive = Annotated[LogicDrive | DividerDrive, Field(discriminator="kind")]
@@ -354,6 +502,43 @@ Clamp = Annotated[
 CLAMP_KINDS = ("none", "diode", "diode_zener", "diode_resistor", "resistor", "tvs_switch")
 
 
+# Inrush as a multiple of the running current when the design gives none (common practice:
+# motors draw often 5–8× at start and incandescent lamps 10–15×, the upper ends taken; a
+# capacitive load's inrush is limited only by the wiring, 20× from memory; an AC solenoid or
+# contactor coil draws several times its holding current until it closes, 5× from memory).
+INRUSH_MULTIPLES: dict[str, float] = {
+    "resistive": 1.0,
+    "inductive": 5.0,
+    "motor": 8.0,
+    "lamp": 15.0,
+    "capacitive": 20.0,
+}
+# Extra-low voltage, IEC 60449 band I: up to 50 V AC (rms) or 120 V ripple-free DC.
+ELV_LIMITS = {"ac": 50.0, "dc": 120.0}
+
+
+class Load(Model):
+    """What the relay's contacts switch."""
+
+    kind: Literal["resistive", "inductive", "motor", "lamp", "capacitive"] = Field(
+        description="what the load is; it sets the default inrush multiple"
+    )
+    voltage: PositiveVolts = Field(description="load supply voltage (rms for AC)")
+    supply: Literal["ac", "dc"] = Field(description='"ac" or "dc" (ripple-free)')
+    current: PositiveAmps = Field(description="running (steady) load current")
+    inrush_multiple: Multiple | None = Field(
+        None, description="inrush as a multiple of the running current; default by kind (common practice)"
+    )
+
+    @property
+    def inrush(self) -> float:
+        return self.current * (self.inrush_multiple or INRUSH_MULTIPLES[self.kind])
+
+    @property
+    def above_elv(self) -> bool:
+        return self.voltage > ELV_LIMITS[self.supply]
+
+
 class Switching(Model):
     per_hour: Annotated[float, *_quantity("/h", positive=True)] | None = None
 
@@ -370,7 +555,7 @@ class Limits(Model):
     power: Fraction | None = None
     tj: Celsius | None = None
     overdrive: Ratio | None = None
-    pickup_margin: Annotated[float, *_quantity("", nonnegative=True)] | None = None
+    pickup_margin: Annotated[float, *_quantity("", nonnegative=True, high=10.0)] | None = None
     cutoff: Fraction | None = None
 
 
@@ -387,6 +572,11 @@ class Design(Model):
     switch: Transistor
     coil: Coil
     clamp: Clamp
+    load: Load | None = Field(
+        None,
+        description="what the relay's contacts switch, checked against coil.contacts; a load above "
+        "extra-low voltage (50 V AC, 120 V ripple-free DC, IEC 60449 band I) carries the mains caution",
+    )
     switching: Switching = Switching()
     requirements: Requirements = Requirements()
     limits: Limits = Limits()
@@ -438,8 +628,8 @@ def _value_text(value: Any) -> str:
 
     try:
         text = json.dumps(value, ensure_ascii=False)
-    except (TypeError, ValueError):
-        text = repr(value)
+    except (TypeError, ValueError, RecursionError):
+        text = "(nested too deep)" if isinstance(value, (dict, list)) else "(not shown)"
     return text if len(text) <= 60 else text[:57] + "…"
 
 

@@ -90,4 +90,8 @@ class BreakdownModel:
     def voltage(self, current, v_br=None):
         current = np.asarray(current, dtype=float)
         v_br = self.v_br if v_br is None else v_br
-        return v_br + THERMAL_VOLTAGE * np.log(current / self.i_test) + (current - self.i_test) * self.r_s
+        with np.errstate(divide="ignore"):
+            v = v_br + THERMAL_VOLTAGE * np.log(current / self.i_test) + (current - self.i_test) * self.r_s
+        # Far below I_T the logarithm would go negative; a breakdown junction never drives the
+        # current, so its voltage stays at 0 V or above (no negative energy at tiny currents).
+        return np.maximum(v, 0.0)

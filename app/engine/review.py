@@ -60,7 +60,7 @@ def _alternatives(ctx: Context) -> list[dict]:
             {
                 "clamp": label,
                 "time_to_dropout": t if np.isfinite(t) else None,
-                "peak_switch_voltage": float(alt.peak_switch_voltage[0]),
+                "peak_switch_voltage": _num(alt.peak_switch_voltage),
             }
         )
     return out
@@ -70,8 +70,8 @@ def build_context(design: Design, profile: Profile = DEFAULT_PROFILE) -> Context
     profile = profile.with_limits(design.limits)
     corners = worst_corners(design)
     nominal_c = nominal_corner(design)
-    op = operating_point(design, corners, steady_state=False)
-    nom = operating_point(design, nominal_c, steady_state=True)
+    op = operating_point(design, corners, steady_state=False, assumed_coil_rise=profile.coil_rise)
+    nom = operating_point(design, nominal_c, steady_state=True, assumed_coil_rise=profile.coil_rise)
     path = clamp_path(design, op.vcc, corners.values)
     nominal_path = clamp_path(design, nom.vcc, nominal_c.values)
     inductance = design.coil.inductance
@@ -80,6 +80,20 @@ def build_context(design: Design, profile: Profile = DEFAULT_PROFILE) -> Context
     ctx = Context(design, profile, corners, op, nom, path, nominal_path, to, to_nom)
     ctx.extras["alternatives"] = _alternatives(ctx)
     return ctx
+
+
+def mains_caution(design: Design) -> str | None:
+    """The caution a load above extra-low voltage carries (IEC 60449 band I: 50 V AC, 120 V
+    ripple-free DC), or None."""
+    load = design.load
+    if load is None or not load.above_elv:
+        return None
+    return (
+        f"Mains-voltage load: {load.voltage:g} V {load.supply.upper()} is above extra-low voltage "
+        "(IEC 60449 band I: 50 V AC, 120 V ripple-free DC). This review checks the contact ratings "
+        "only; isolation, creepage, clearance, protection and wiring must follow the applicable "
+        "local codes and licensed practice."
+    )
 
 
 def _num(x) -> float | None:
@@ -104,6 +118,7 @@ def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE) -> dict:
         "engine_version": ENGINE_VERSION,
         "design": design.name,
         "verdict": verdict,
+        "mains_caution": mains_caution(design),
         "profile": ctx.profile.as_dict(),
         "corners": ctx.corners.size,
         "findings": [f.as_dict() for f in findings],

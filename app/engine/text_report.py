@@ -25,6 +25,8 @@ def render_table(report: dict) -> str:
         f"verdict: {report['verdict']}   profile: {report['profile']['name']}   corners: {report['corners']}",
         "",
     ]
+    if report.get("mains_caution"):
+        out[3:3] = [f"CAUTION  {report['mains_caution']}", ""]
     for n, row in enumerate(rows):
         out.append("  ".join(cell.ljust(widths[i]) for i, cell in enumerate(row)).rstrip())
         if n == 0:

@@ -75,7 +75,10 @@ def parse_quantity(value: object, unit: str = "") -> float:
     if isinstance(value, bool):
         raise UnitError("must be a number, not true/false")
     if isinstance(value, (int, float)):
-        number = float(value)
+        try:
+            number = float(value)
+        except OverflowError:
+            raise UnitError("is too large to be a number (it overflows a float)") from None
     elif isinstance(value, str):
         number = _parse_string(value, unit)
     else:
@@ -98,6 +101,8 @@ def _parse_string(text: str, unit: str) -> float:
             if factor != 1.0:
                 raise UnitError(f"carries two prefixes in {text!r}")
         return number
+    if len(text) > 100:
+        raise UnitError("is too long to be a number (at most 100 characters)")
     match = _PLAIN.match(text)
     if match:
         return float(match["num"]) * _unit_factor(match["rest"], unit)

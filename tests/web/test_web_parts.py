@@ -163,3 +163,65 @@ def test_csv_export_neutralises_formulas_and_imports_them_back(designer):
         assert (
             after[part["name"]]["notes"] == part["notes"] and after[part["name"]]["params"] == part["params"]
         )
+
+
+def test_new_optional_fields_go_through_the_form_and_the_csv(designer):
+    # A transistor with the worst-case extras, and a coil with contact ratings (a nested block, one
+    # dotted column per rating in the CSV and one field per rating in the form).
+    transistor = {
+        "hfe_min": "100",
+        "hfe_max": "400",
+        "vbe_sat": "0.9",
+        "vbe_sat_min": "0.7",
+        "vce_sat": "0.3",
+        "vce_sat_min": "0.05",
+        "vbe_on": "0.65",
+        "vceo": "40",
+        "vebo": "6",
+        "ic_max": "200 mA",
+        "p_max": "625 mW",
+        "rth_ja": "200",
+        "tj_max": "150",
+    }
+    response = designer.post("/parts", data={"kind": "transistor", "name": "Bench NPN", **transistor})
+    assert response.status_code == 303
+    coil = {
+        "v_nominal": "12",
+        "r_coil": "400",
+        "tolerance": "10",
+        "inductance": "0.4 H",
+        "v_pickup": "9",
+        "v_dropout": "1",
+        "v_max": "15",
+        "temp_rise": "35",
+        "contacts.current": "10 A",
+        "contacts.voltage_ac": "250 V",
+    }
+    response = designer.post("/parts", data={"kind": "coil", "name": "Bench relay", **coil})
+    assert response.status_code == 303
+    stored = designer.get("/api/v1/parts", params={"kind": "coil", "q": "bench relay"}).json()[0]
+    assert stored["params"]["contacts"] == {"current": "10 A", "voltage_ac": "250 V"}
+    assert stored["params"]["temp_rise"] == 35
+    edit = designer.get(f"/parts/{stored['id']}/edit").text
+    assert 'name="contacts.current" value="10 A"' in edit
+    exported = designer.get("/parts/export.csv?kind=coil").text
+    header = exported.splitlines()[0].split(",")
+    assert {
+        "temp_rise",
+        "contacts.current",
+        "contacts.voltage_ac",
+        "contacts.voltage_dc",
+        "contacts.inrush",
+    } <= set(header)
+    before = designer.get("/api/v1/parts?kind=coil").json()
+    response = designer.post("/parts/import", data={"kind": "coil"}, files={"file": ("c.csv", exported)})
+    assert response.status_code == 200
+    after = designer.get("/api/v1/parts?kind=coil").json()
+    assert [(p["name"], p["params"]) for p in after] == [(p["name"], p["params"]) for p in before]
+    exported = designer.get("/parts/export.csv?kind=transistor").text
+    assert {"hfe_max", "vbe_sat_min", "vce_sat_min"} <= set(exported.splitlines()[0].split(","))
+    # A bad contact rating is named beside its own field
+    response = designer.post(
+        "/parts", data={"kind": "coil", "name": "Bad relay", **coil, "contacts.current": "-1"}
+    )
+    assert response.status_code == 422 and "must be positive" in response.text

@@ -123,7 +123,7 @@ def test_editing_a_library_part_leaves_stored_revisions_and_reports_unchanged(de
     changed = designer.put(
         f"/api/v1/parts/{pid}", json={"name": part["name"], "params": {**part["params"], "v_pickup": 20}}
     )
-    assert changed.status_code == 200
+    assert changed.status_code == 200, changed.text
     after = [
         (designer.get(f"/api/v1/revisions/{r}").json(), designer.get(f"/api/v1/revisions/{r}/report").json())
         for r in revs
@@ -154,3 +154,36 @@ def test_revision_page_shows_inputs_parts_operating_point_and_formulas(reviewer,
         "Peak switch voltage",
     ):
         assert text in page
+
+
+def test_the_form_carries_the_load_and_divider_fields(designer, world):
+    page = designer.get(f"/channels/{channel_id(world, K2)}/new").text
+    for name in (
+        "load.kind",
+        "load.voltage",
+        "load.supply",
+        "load.current",
+        "load.inrush_multiple",
+        "drive.transition",
+        "drive.v_source_tolerance",
+        "drive.fixed_power_rating",
+        "drive.sensor_power_rating",
+    ):
+        assert f'name="{name}"' in page, name
+    values = {
+        **form_values(world, K2),
+        "load.kind": "motor",
+        "load.voltage": "230 V",
+        "load.supply": "ac",
+        "load.current": "1.5 A",
+        "change_note": "the fan motor on the contacts",
+    }
+    response = designer.post(f"/channels/{channel_id(world, K2)}/revisions", data=values)
+    assert response.status_code == 303, response.text
+    rev = revision_ids(world, K2)[-1]
+    document = designer.get(f"/api/v1/revisions/{rev}").json()["document"]
+    assert document["load"] == {"kind": "motor", "voltage": "230 V", "supply": "ac", "current": "1.5 A"}
+    report = designer.get(f"/api/v1/revisions/{rev}/report").json()
+    assert "IEC 60449" in report["mains_caution"]
+    record = designer.get(f"/revisions/{rev}/record").text
+    assert "Mains-voltage load." in record

@@ -1,5 +1,5 @@
 """The review rules. One rule = one function with its id, title, the formula in its docstring
-and the source of any constant, in a module per area (drive, coil, switch, clamp, resistors).
+and the source of any constant, in a module per area (drive, coil, switch, clamp, resistors, contacts).
 ``RULES`` is the registry the report and the docs both read; its order is the report's order.
 
 A rule receives the evaluation context (every corner at once, as arrays) and returns a
@@ -15,6 +15,7 @@ from . import coil  # noqa: F401
 from . import switch  # noqa: F401
 from . import clamp  # noqa: F401
 from . import resistors  # noqa: F401
+from . import contacts  # noqa: F401
 # isort: on
 
 __all__ = ["RULES", "STATUS_ORDER", "Context", "Finding", "Rule", "Status", "judge", "note", "rule"]

@@ -14,7 +14,7 @@ def _diode(ctx: Context):
 
 @rule("clamp.reverse_voltage", "Clamp reverse voltage")
 def clamp_reverse(ctx: Context) -> Finding | None:
-    """Diode across the coil: reverse voltage when on ≈ V_cc,max − V_CE(sat) against V_RRM.
+    """Diode across the coil: reverse voltage when on ≈ V_cc,max − V_CE(sat),min against V_RRM.
     TVS from the switch to ground: it sees V_cc,max when the switch is off, against its minimum
     breakdown V_BR. Both derated by the profile's voltage fraction."""
     clamp, op = ctx.design.clamp, ctx.op
@@ -34,7 +34,7 @@ def clamp_reverse(ctx: Context) -> Finding | None:
     diode = _diode(ctx)
     if diode is None:
         return None
-    v = op.vcc - ctx.design.switch.vce_sat
+    v = op.vcc - ctx.design.switch.vce_sat_low  # lowest V_CE(sat) (vce_sat_min, else 0 V)
     return judge(
         ctx,
         "clamp.reverse_voltage",

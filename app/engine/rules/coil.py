@@ -12,10 +12,23 @@ def pickup(ctx: Context) -> Finding:
     """Coil voltage on = V_cc − V_CE(sat) (or h_FE(min)·I_B·R_coil when not saturated) against the
     must-operate voltage at the hot coil, V_pu(T) = V_pu(T_ref)·R(T)/R(T_ref) with
     R(T) = R(20 °C)·(1 + α(T − 20)), α = 0.00393 /K (copper, IEC 60028). The coil temperature is
-    the ambient plus self-heating at the highest supply when the coil's R_th is given.
+    the ambient plus self-heating at the highest supply (V_cc,max − V_CE(sat),min): from the coil's
+    R_th, else from its temperature rise ΔT at nominal voltage (R_th = ΔT·R_hot/V_nom²), else from
+    the derating profile's assumed rise (from memory), which the finding then says.
     Limit: must-operate × (1 + pick-up margin)."""
     op = ctx.op
     rating = op.must_operate_hot
+    if op.coil_heating == "rth":
+        heating = "self-heated by the coil's R_th"
+    elif op.coil_heating == "temp_rise":
+        heating = f"self-heated by the datasheet's {op.coil_rise:g} K rise"
+    elif op.coil_heating == "assumed":
+        heating = (
+            f"self-heating ASSUMED: a {op.coil_rise:g} K rise at nominal voltage (profile value, "
+            "from memory; give coil.rth or coil.temp_rise)"
+        )
+    else:
+        heating = "no self-heating"
     return judge(
         ctx,
         "coil.pickup",
@@ -25,7 +38,7 @@ def pickup(ctx: Context) -> Finding:
         "V",
         keep_below=False,
         message=lambda i, s: (
-            f"{_si(op.coil_voltage_hot[i], 'V')} on the coil at {op.coil_temp_hot[i]:.0f} °C, must-operate {_si(rating[i], 'V')} there"
+            f"{_si(op.coil_voltage_hot[i], 'V')} on the coil at {op.coil_temp_hot[i]:.0f} °C, must-operate {_si(rating[i], 'V')} there; {heating}"
         ),
         hot_coil=True,
     )
@@ -33,7 +46,8 @@ def pickup(ctx: Context) -> Finding:
 
 @rule("coil.overvoltage", "Coil over-voltage")
 def overvoltage(ctx: Context) -> Finding:
-    """Coil voltage V_cc,max − V_CE(sat) against the coil's maximum continuous voltage. The
+    """Coil voltage V_cc,max − V_CE(sat),min (vce_sat_min, else 0 V) against the coil's maximum
+    continuous voltage. The
     maker's figure already carries the coil's thermal margin, so the limit is the rating."""
     op, coil = ctx.op, ctx.design.coil
     return judge(

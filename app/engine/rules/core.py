@@ -137,11 +137,14 @@ def judge(
         value = np.full(n, value)
     with np.errstate(divide="ignore", invalid="ignore"):
         if keep_below:
-            over_rating = value / rating
-            over_limit = value / limit
+            over_rating = np.asarray(value / rating, dtype=float)
+            over_limit = np.asarray(value / limit, dtype=float)
             infinite = np.isinf(value)
             if infinite.any():
                 over_rating[infinite] = over_limit[infinite] = np.inf
+            # A rating (or limit) of zero or less allows nothing: any stress is past it.
+            over_rating = np.where(np.broadcast_to(rating, (n,)) <= 0, np.inf, over_rating)
+            over_limit = np.where(np.broadcast_to(limit, (n,)) <= 0, np.inf, over_limit)
         else:
             over_rating = rating / value
             over_limit = limit / value
@@ -167,6 +170,14 @@ def judge(
         message=message(worst, status),
         bound="upper" if keep_below else "lower",
     )
+
+
+def worse(*findings: Finding | None) -> Finding | None:
+    """The finding with the worse status (the first of equals), for a rule judged two ways."""
+    present = [f for f in findings if f is not None]
+    if not present:
+        return None
+    return max(present, key=lambda f: STATUS_ORDER[f.status])  # max() keeps the first of equals
 
 
 def note(

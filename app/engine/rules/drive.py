@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..design import DividerDrive, LogicDrive
-from .core import Context, Finding, Status, _si, judge, note, rule
+from .core import Context, Finding, Status, _si, judge, note, rule, worse
 
 
 @rule("drive.saturation", "Saturation overdrive")
@@ -69,8 +69,11 @@ def cutoff(ctx: Context) -> Finding:
 
 @rule("drive.source_current", "Drive source current")
 def source_current(ctx: Context) -> Finding:
-    """I_source = (V_th,on − V_BE(sat)) / (R_th + R_b) against the output's i_max (derated by
-    the profile's current fraction). A divider has no such limit: reported as a note."""
+    """I_source = (V_th,on − V_BE,low) / (R_th + R_b) against the output's i_max (derated by
+    the profile's current fraction). V_BE,low is the lowest base voltage a conducting base can
+    have — the transistor's vbe_sat_min, else the hot V_BE(on) = V_BE(on) − 2 mV/K·(T_J − 25)
+    (common practice) — which draws the most current; a base held below it by R_be carries
+    V_th,on/(R_th + R_b + R_be). A divider has no such limit: reported as a note."""
     op, drive = ctx.op, ctx.design.drive
     current = op.base_resistor_current
     if isinstance(drive, DividerDrive):
@@ -92,7 +95,10 @@ def source_current(ctx: Context) -> Finding:
         ctx.profile.current * drive.i_max,
         "A",
         keep_below=True,
-        message=lambda i, s: f"{_si(current[i], 'A')} from the pin, rated {_si(drive.i_max, 'A')}",
+        message=lambda i, s: (
+            f"{_si(current[i], 'A')} from the pin with the base at {_si(op.vbe_low[i], 'V')}, "
+            f"rated {_si(drive.i_max, 'A')}"
+        ),
     )
 
 
@@ -115,4 +121,67 @@ def reverse_base(ctx: Context) -> Finding:
             if reverse[i] == 0
             else f"base reverse-biased by {_si(reverse[i], 'V')}"
         ),
+    )
+
+
+@rule("drive.divider_power", "Divider resistor power")
+def divider_power(ctx: Context) -> Finding | None:
+    """Power in the divider's fixed resistor and its sensor, in both sensor states: the divider's
+    middle node sits at V_m = V_th − I_Rb·R_th (Thevenin, with the base drawing I_Rb at the lowest
+    conducting V_BE, or only the current into R_be when it stays below that), so P_top = (V_src − V_m)²/R_top; the lower resistor is bounded by the
+    unloaded node, P_bottom = V_th²/R_bottom. V_src takes its tolerance (v_source_tolerance, or
+    the supply's). Each part with a rating (drive.fixed_power_rating, drive.sensor_power_rating)
+    is judged against it, derated by the profile's power fraction; the worse is reported.
+    Without either rating: a note with both powers."""
+    op, drive = ctx.op, ctx.design.drive
+    if not isinstance(drive, DividerDrive):
+        return None
+    d = op.divider
+    powers = {"fixed": [], "sensor": []}
+    for state, v_th, r_th, i_rb in (
+        ("on", op.v_th_on, op.r_th_on, d["base_on"]),
+        ("off", op.v_th_off, op.r_th_off, d["base_off"]),
+    ):
+        v_mid = v_th - i_rb * r_th
+        p_top = (d["v_source"] - v_mid) ** 2 / d[f"r_top_{state}"]
+        p_bottom = v_th**2 / d[f"r_bottom_{state}"]
+        top, bottom = ("sensor", "fixed") if drive.sensor_position == "top" else ("fixed", "sensor")
+        powers[top].append(p_top)
+        powers[bottom].append(p_bottom)
+    fixed = np.maximum(*powers["fixed"])
+    sensor = np.maximum(*powers["sensor"])
+    ratings = {"fixed": drive.fixed_power_rating, "sensor": drive.sensor_power_rating}
+    values = {"fixed": fixed, "sensor": sensor}
+    label = {"fixed": "fixed resistor", "sensor": "sensor"}
+    found = []
+    for part, rating in ratings.items():
+        if rating is None:
+            continue
+        value = values[part]
+        found.append(
+            judge(
+                ctx,
+                "drive.divider_power",
+                value,
+                rating,
+                ctx.profile.power * rating,
+                "W",
+                keep_below=True,
+                message=lambda i, s, part=part, value=value, rating=rating: (
+                    f"{_si(value[i], 'W')} in the {label[part]}, rated {_si(rating, 'W')}; "
+                    f"fixed {_si(fixed[i], 'W')}, sensor {_si(sensor[i], 'W')}"
+                ),
+            )
+        )
+    if found:
+        return worse(*found)
+    worst = int(np.argmax(np.maximum(fixed, sensor)))
+    return note(
+        ctx,
+        "drive.divider_power",
+        float(max(fixed[worst], sensor[worst])),
+        "W",
+        f"fixed resistor {_si(fixed[worst], 'W')}, sensor {_si(sensor[worst], 'W')}; no power rating "
+        "entered, so neither is checked (drive.fixed_power_rating, drive.sensor_power_rating)",
+        worst,
     )

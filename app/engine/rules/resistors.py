@@ -8,7 +8,9 @@ from .core import Context, Finding, _si, judge, rule
 @rule("resistor.power", "Base resistor power")
 def resistor_power(ctx: Context) -> Finding:
     """P_Rb = I_Rb²·R_b with the current through R_b itself (the drop across R_b alone, not the
-    source's own resistance), against its rating derated by the profile's power fraction."""
+    source's own resistance), against its rating derated by the profile's power fraction.
+    I_Rb is taken at the lowest base voltage a conducting base can have (vbe_sat_min, else the hot
+    V_BE(on) = V_BE(on) − 2 mV/K·(T_J − 25), common practice): the most current."""
     op, base = ctx.op, ctx.design.base
     power = op.base_resistor_current**2 * op.r_series
     return judge(

@@ -4,13 +4,14 @@ from __future__ import annotations
 
 import numpy as np
 
-from .core import RULES, Context, Finding, _si, judge, rule
+from .core import RULES, Context, Finding, _si, judge, rule, worse
 
 
 @rule("switch.current", "Switch current")
 def switch_current(ctx: Context) -> Finding:
-    """I_C,max = (V_cc,max − V_CE(sat)) / R_coil,min (coldest, lowest-tolerance coil) against the
-    I_C rating, derated by the profile's current fraction."""
+    """I_C,max = (V_cc,max − V_CE(sat),min) / R_coil,min (coldest, lowest-tolerance coil) against the
+    I_C rating, derated by the profile's current fraction. V_CE(sat),min is the transistor's
+    vce_sat_min, else 0 V: the lowest saturation voltage leaves the most for the load."""
     op, sw = ctx.op, ctx.design.switch
     return judge(
         ctx,
@@ -60,11 +61,27 @@ def breakdown(ctx: Context) -> Finding:
     )
 
 
+def _power_message(op, i: int) -> str:
+    text = f"{_si(op.dissipation[i], 'W')}, {_si(op.power_allowed[i], 'W')} allowed at {op.ambient[i]:.0f} °C"
+    if op.power_allowed[i] <= 0:
+        text += " — the ambient reaches T_J,max: no dissipation is allowed there"
+    if op.linear_bound[i]:
+        text += (
+            "; not saturated: with h_FE anywhere in its range the switch can sit at V_CE = V_cc/2,"
+            f" P = V_cc²/(4·R_load) = {_si(op.vcc[i] ** 2 / (4 * op.load_resistance[i]), 'W')}"
+            " (give switch.hfe_max if its range cannot reach that)"
+        )
+    return text
+
+
 @rule("switch.power", "Switch dissipation")
 def switch_power(ctx: Context) -> Finding:
-    """P = I_C·V_CE(sat) + I_B·V_BE(sat) (switching loss negligible at relay rates) against the
-    allowed power at the ambient, P_allowed(T_A) = min(P_max, (T_J,max − T_A)/R_θJA), derated
-    by the profile's power fraction."""
+    """P = I_C·V_CE(sat) + I_B·V_BE(sat) when saturated (switching loss negligible at relay rates).
+    Not saturated at h_FE(min), the collector current lies anywhere from h_FE(min)·I_B up to
+    h_FE(max)·I_B (no upper gain without switch.hfe_max) and saturation; I·(V_cc − I·R_load) peaks
+    at V_CE = V_cc/2 with P = V_cc²/(4·R_load), the bound used when that range reaches it.
+    Against the allowed power at the ambient, P_allowed(T_A) = min(P_max, (T_J,max − T_A)/R_θJA),
+    derated by the profile's power fraction; an ambient at or above T_J,max allows nothing."""
     op = ctx.op
     return judge(
         ctx,
@@ -74,15 +91,14 @@ def switch_power(ctx: Context) -> Finding:
         ctx.profile.power * op.power_allowed,
         "W",
         keep_below=True,
-        message=lambda i, s: (
-            f"{_si(op.dissipation[i], 'W')}, {_si(op.power_allowed[i], 'W')} allowed at {op.ambient[i]:.0f} °C"
-        ),
+        message=lambda i, s: _power_message(op, i),
     )
 
 
 @rule("switch.junction_temp", "Junction temperature")
 def junction_temp(ctx: Context) -> Finding:
-    """T_J = T_A + P·R_θJA against T_J,max; limit min(profile T_J, T_J,max − 25 K)."""
+    """T_J = T_A + P·R_θJA against T_J,max; limit min(profile T_J, T_J,max − 25 K). P as in
+    switch.power (the V_cc²/(4·R_load) bound for a switch that is not saturated)."""
     op, sw = ctx.op, ctx.design.switch
     limit = min(ctx.profile.tj, sw.tj_max - 25.0)
     return judge(
@@ -95,3 +111,55 @@ def junction_temp(ctx: Context) -> Finding:
         keep_below=True,
         message=lambda i, s: f"T_J {op.junction_temp[i]:.1f} °C at T_A {op.ambient[i]:.0f} °C",
     )
+
+
+@rule("switch.linear_region", "Linear region on a slow input")
+def linear_region(ctx: Context) -> Finding | None:
+    """A divider whose sensor changes slowly (drive.transition "slow", the default: photoresistor,
+    thermistor) walks the switch through its linear region. Over the sweep from the sensor's off
+    to its on value the collector current takes every value from h_FE(min)·I_B,off to
+    h_FE(max)·I_B,on (saturation without switch.hfe_max); I·(V_cc − I·R_load) peaks at
+    V_CE = V_cc/2, P = V_cc²/(4·R_load) (DOMAIN: worst dissipation of a slow input), plus
+    I_B,on·V_BE(sat). Judged like switch.power (against min(P_max, (T_J,max − T_A)/R_θJA),
+    derated) and switch.junction_temp (T_A + P·R_θJA against T_J,max); the worse is reported.
+    Not for a logic drive or a "snap" sensor (float switch, reed contact)."""
+    op, sw, drive = ctx.op, ctx.design.switch, ctx.design.drive
+    if getattr(drive, "kind", None) != "divider" or drive.transition != "slow":
+        return None
+    power = op.sweep_dissipation
+    tj = op.ambient + power * sw.rth_ja
+    advice = "; hysteresis (a Schmitt stage) or a comparator snaps the switch through it"
+
+    def message(i: int, s) -> str:
+        where = (
+            f"V_CE = V_cc/2 = {_si(op.vcc[i] / 2, 'V')}"
+            if op.sweep_bound[i]
+            else "the edge of its gain range"
+        )
+        text = (
+            f"a slow sensor holds the switch at {where}: {_si(power[i], 'W')}, T_J {tj[i]:.0f} °C "
+            f"at T_A {op.ambient[i]:.0f} °C while the input dwells there"
+        )
+        return text + (advice if s != "ok" else "")
+
+    by_power = judge(
+        ctx,
+        "switch.linear_region",
+        power,
+        op.power_allowed,
+        ctx.profile.power * op.power_allowed,
+        "W",
+        keep_below=True,
+        message=message,
+    )
+    by_junction = judge(
+        ctx,
+        "switch.linear_region",
+        tj,
+        sw.tj_max,
+        min(ctx.profile.tj, sw.tj_max - 25.0),
+        "°C",
+        keep_below=True,
+        message=message,
+    )
+    return worse(by_power, by_junction)

@@ -112,7 +112,9 @@ def sign_in(request: Request, db: DB, body: SignIn):
 class PartIn(BaseModel):
     kind: str
     name: str
-    params: dict[str, str | float | int | None] = Field(default_factory=dict)
+    params: dict[str, str | float | int | None | dict[str, str | float | int | None]] = Field(
+        default_factory=dict
+    )
     notes: str = ""
     maker_part: str = ""
     package: str = ""
@@ -121,7 +123,9 @@ class PartIn(BaseModel):
 
 class PartUpdate(BaseModel):
     name: str
-    params: dict[str, str | float | int | None] = Field(default_factory=dict)
+    params: dict[str, str | float | int | None | dict[str, str | float | int | None]] = Field(
+        default_factory=dict
+    )
     notes: str = ""
     maker_part: str | None = Field(None, description="left out: unchanged")
     package: str | None = Field(None, description="left out: unchanged")

@@ -177,7 +177,7 @@ def edit_part_page(request: Request, db: DB, user: LibraryEditor, part_id: int):
         "name": part.name,
         "notes": part.notes,
         **{k: getattr(part, k) for k in PART_DETAILS},
-        **{k: str(v) for k, v in part.params.items()},
+        **{k: str(v) for k, v in parts.flat_params(part.params).items()},
     }
     return _form(part.kind, part=part, values=values, request=request)
 

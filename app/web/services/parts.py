@@ -4,7 +4,9 @@ from __future__ import annotations
 
 import csv
 import io
+from typing import get_args
 
+from pydantic import BaseModel
 from pydantic.fields import FieldInfo
 from sqlalchemy import exists, func
 from sqlmodel import Session, select
@@ -12,7 +14,7 @@ from sqlmodel import Session, select
 from app.engine.design import PART_DETAILS, Coil, DesignError, Diode, Transistor, Tvs, Zener, parse_part
 
 from ..models import PART_KINDS, Channel, Part, Revision, RevisionPart, utcnow
-from .documents import _NUMBER, typed_value
+from .documents import _NUMBER, set_path, typed_value
 from .errors import InputProblems, check_text, commit_or_conflict, get_or_not_found, split_problem
 
 PART_MODELS = {"transistor": Transistor, "diode": Diode, "zener": Zener, "tvs": Tvs, "coil": Coil}
@@ -25,14 +27,40 @@ KIND_TITLES = {
 }
 
 
+def _nested_model(info: FieldInfo) -> type[BaseModel] | None:
+    """The model of an optional nested block (a coil's ``contacts``), else None."""
+    for arg in (info.annotation, *get_args(info.annotation)):
+        if isinstance(arg, type) and issubclass(arg, BaseModel):
+            return arg
+    return None
+
+
 def param_fields(kind: str) -> list[tuple[str, FieldInfo]]:
-    """The parameter names of a kind, in the design file's spelling (``is`` for I_S), without name."""
+    """The parameter names of a kind, in the design file's spelling (``is`` for I_S), without name.
+    A nested block's fields come as dotted names (``contacts.current``), one form field or CSV
+    column each."""
     model = PART_MODELS[kind]
     out = []
     for attr, info in model.model_fields.items():
         if attr in ("name", "kind") or attr in PART_DETAILS:
             continue
+        nested = _nested_model(info)
+        if nested is not None:
+            for sub, sub_info in nested.model_fields.items():
+                out.append((f"{info.alias or attr}.{sub}", sub_info))
+            continue
         out.append((info.alias or attr, info))
+    return out
+
+
+def flat_params(params: dict) -> dict:
+    """A part's stored parameters with nested blocks as dotted names, for the form and the CSV."""
+    out: dict = {}
+    for key, value in params.items():
+        if isinstance(value, dict):
+            out.update({f"{key}.{sub}": v for sub, v in value.items()})
+        else:
+            out[key] = value
     return out
 
 
@@ -47,13 +75,13 @@ def clean_params(kind: str, params: dict) -> dict:
     allowed = {name for name, _ in param_fields(kind)}
     kept: dict = {}
     problems = []
-    for key, value in params.items():
+    for key, value in flat_params(params).items():
         if key not in allowed:
             problems.append((key, f"is not a {kind} parameter; allowed: {', '.join(sorted(allowed))}"))
             continue
         if value is None or (isinstance(value, str) and not value.strip()):
             continue
-        kept[key] = typed_value(value) if isinstance(value, str) else value
+        set_path(kept, key, typed_value(value) if isinstance(value, str) else value)
     if problems:
         raise InputProblems(problems)
     return kept
@@ -254,7 +282,8 @@ def export_csv(db: Session, kind: str) -> str:
     writer.writeheader()
     for part in search_parts(db, kind, include_archived=True, limit=100000):
         details = {key: getattr(part, key) for key in PART_DETAILS}
-        params = {k: part.params.get(k, "") for k in columns[2 + len(PART_DETAILS) :]}
+        flat = flat_params(part.params)
+        params = {k: flat.get(k, "") for k in columns[2 + len(PART_DETAILS) :]}
         row = {"name": part.name, "notes": part.notes, **details, **params}
         writer.writerow({k: neutralise_cell(v) for k, v in row.items()})
     return out.getvalue()

@@ -67,6 +67,23 @@ SECTIONS = (
             F("drive.r_sensor_on", "Sensor, on state", "Ω", when="drive.kind=divider"),
             F("drive.r_sensor_off", "Sensor, off state", "Ω", when="drive.kind=divider"),
             F("drive.tolerance", "Divider tolerance", "%", when="drive.kind=divider"),
+            F(
+                "drive.v_source_tolerance",
+                "Divider source tolerance",
+                "%",
+                when="drive.kind=divider",
+                hint="only with a divider source",
+            ),
+            F(
+                "drive.transition",
+                "Sensor changes",
+                widget="select",
+                options=("slow", "snap"),
+                when="drive.kind=divider",
+                hint="slow: photoresistor, thermistor; snap: float switch, reed contact",
+            ),
+            F("drive.fixed_power_rating", "Fixed resistor power rating", "W", when="drive.kind=divider"),
+            F("drive.sensor_power_rating", "Sensor power rating", "W", when="drive.kind=divider"),
         ),
     ),
     Section(
@@ -90,6 +107,44 @@ SECTIONS = (
             F("clamp.tvs", "TVS", widget="part", when="clamp.kind=tvs_switch"),
             F("clamp.r", "Clamp resistor", "Ω", when="clamp.kind=diode_resistor,resistor"),
             F("clamp.tolerance", "Clamp resistor tolerance", "%", when="clamp.kind=diode_resistor,resistor"),
+        ),
+    ),
+    Section(
+        "Load on the contacts (optional; the coil part carries the contact ratings)",
+        (
+            F(
+                "load.kind",
+                "Load",
+                widget="select",
+                options=("", "resistive", "inductive", "motor", "lamp", "capacitive"),
+                hint="blank: no load given, contacts not checked",
+            ),
+            F(
+                "load.voltage",
+                "Load voltage",
+                "V",
+                when="load.kind=resistive,inductive,motor,lamp,capacitive",
+            ),
+            F(
+                "load.supply",
+                "AC or DC",
+                widget="select",
+                options=("ac", "dc"),
+                when="load.kind=resistive,inductive,motor,lamp,capacitive",
+            ),
+            F(
+                "load.current",
+                "Running current",
+                "A",
+                when="load.kind=resistive,inductive,motor,lamp,capacitive",
+            ),
+            F(
+                "load.inrush_multiple",
+                "Inrush multiple",
+                "×",
+                when="load.kind=resistive,inductive,motor,lamp,capacitive",
+                hint="blank: by kind (common practice)",
+            ),
         ),
     ),
     Section(
