@@ -120,7 +120,11 @@ def _energies(path: ClampPath, inductance: float, decay_rate, i0: np.ndarray):
     """Charge and energies per turn-off. The current decays to 1/1000 of I_0 here (the rest is
     < 1e-6 of the energy); one grid serves all three integrals: dt = L·di / (R·i + v_c(i))."""
     i, w = _log_grid(i0 * 1e-3, i0)
-    dt = w * inductance / decay_rate(i)
+    rate = decay_rate(i)
+    dt = w * inductance / rate
+    # Where nothing drives the current down (e.g. a supply above the avalanche voltage of an
+    # unclamped switch) it never decays: no finite charge or energy, never a negative one.
+    dt = np.where((rate > 0).all(axis=1, keepdims=True), dt, np.nan)
     charge = (dt * i).sum(axis=1)
     clamp_energy = (dt * i * path.device_voltage(i)).sum(axis=1)
     if path.diode is not None:
