@@ -66,10 +66,11 @@ def _schema(args: argparse.Namespace) -> int:
 
 
 def _netlist(args: argparse.Namespace) -> int:
+    from .engine.clamps import kind_of
     from .engine.netlist import netlist
 
     design = load_design_file(args.file)
-    if design.clamp.kind == "none":
+    if kind_of(design.clamp).unclamped:
         raise InputError([f'{args.file}: clamp.kind: "none" has no finite turn-off to simulate; add a clamp'])
     text = netlist(design, args.corner)
     if args.output:

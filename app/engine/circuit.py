@@ -10,8 +10,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .clamps import kind_of
 from .corners import Corners
-from .design import Design, DividerDrive, ResistorClamp
+from .design import Design, DividerDrive
 from .physics import COPPER_ALPHA_20, VBE_TEMPCO, copper_ratio, self_heated_resistance
 
 
@@ -84,7 +85,7 @@ def operating_point(design: Design, c: Corners, *, steady_state: bool) -> Operat
     coil_temp_hot = 20.0 + (r_hot / r_20 - 1) / COPPER_ALPHA_20
 
     coil_current = v_on / r_coil
-    r_clamp = c["r_clamp"] if isinstance(design.clamp, ResistorClamp) else np.full(c.size, np.inf)
+    r_clamp = kind_of(design.clamp).parallel_resistance(design.clamp, c.values, c.size)
     collector_current = coil_current + v_on / r_clamp
 
     v_th_on, r_th_on, v_th_off, r_th_off = _drive(design, c)

@@ -13,9 +13,7 @@ from pydantic import (
     BaseModel,
     BeforeValidator,
     ConfigDict,
-    Discriminator,
     Field,
-    Tag,
     ValidationError,
     WithJsonSchema,
     model_validator,
@@ -284,49 +282,8 @@ class Base(Model):
     power_rating: Watts
 
 
-class NoClamp(Model):
-    kind: Literal["none"]
-
-
-class DiodeClamp(Model):
-    kind: Literal["diode"]
-    diode: Diode
-
-
-class DiodeZenerClamp(Model):
-    kind: Literal["diode_zener"]
-    diode: Diode
-    zener: Zener
-
-
-class DiodeResistorClamp(Model):
-    kind: Literal["diode_resistor"]
-    diode: Diode
-    r: Ohms
-    tolerance: Tolerance = Field(0.0, description="resistor tolerance, percent")
-
-
-class ResistorClamp(Model):
-    kind: Literal["resistor"]
-    r: Ohms
-    tolerance: Tolerance = Field(0.0, description="resistor tolerance, percent")
-
-
-class TvsClamp(Model):
-    kind: Literal["tvs_switch"]
-    tvs: Tvs
-
-
-Clamp = Annotated[
-    Annotated[NoClamp, Tag("none")]
-    | Annotated[DiodeClamp, Tag("diode")]
-    | Annotated[DiodeZenerClamp, Tag("diode_zener")]
-    | Annotated[DiodeResistorClamp, Tag("diode_resistor")]
-    | Annotated[ResistorClamp, Tag("resistor")]
-    | Annotated[TvsClamp, Tag("tvs_switch")],
-    Discriminator("kind"),
-]
-CLAMP_KINDS = ("none", "diode", "diode_zener", "diode_resistor", "resistor", "tvs_switch")
+# The clamp kinds live one module each in app.engine.clamps, which reads the part models above.
+from .clamps import CLAMP_KINDS, Clamp  # noqa: E402
 
 
 class Switching(Model):

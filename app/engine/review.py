@@ -7,12 +7,16 @@ import numpy as np
 
 from . import ENGINE_VERSION
 from .circuit import operating_point
+from .clamps import kind_of
+from .clamps.diode import DiodePath
+from .clamps.diode_zener import DiodeZenerPath
+from .clamps.resistor import ResistorPath
 from .corners import nominal_corner, worst_corners
 from .design import Design, Diode
 from .physics import BreakdownModel, DiodeModel
 from .profile import DEFAULT_PROFILE, Profile
 from .rules import RULES, STATUS_ORDER, Context, Finding
-from .transient import ClampPath, clamp_path, turn_off
+from .transient import turn_off
 
 REPORT_FORMAT = "clampdown-report/1"
 
@@ -32,15 +36,14 @@ def _alternatives(ctx: Context) -> list[dict]:
     i0_worst = float(np.max(ctx.turnoff.initial_current))
     v_budget = ctx.profile.voltage * design.switch.vceo - design.supply.high
     out = []
-    candidates = [("diode", ClampPath("diode", vcc, diode=diode))]
+    candidates = [("diode", DiodePath(vcc, diode=diode))]
     v_f = float(diode.voltage(i0_worst))
     vz = v_budget - v_f
     if vz > 1:
         candidates.append(
             (
                 f"diode + {vz:.0f} V zener",
-                ClampPath(
-                    "diode_zener",
+                DiodeZenerPath(
                     vcc,
                     diode=diode,
                     breakdown=BreakdownModel(vz, 0.005, 0.0),
@@ -50,7 +53,7 @@ def _alternatives(ctx: Context) -> list[dict]:
         )
     if v_budget > 0:
         r = v_budget / i0_worst
-        candidates.append((f"resistor {r:.0f} Ω", ClampPath("resistor", vcc, r=np.array([r]))))
+        candidates.append((f"resistor {r:.0f} Ω", ResistorPath(vcc, r=np.array([r]))))
     for label, path in candidates:
         alt = turn_off(
             path, design.coil.inductance, nom.r_coil, to.initial_current, nom.dropout_current, energies=False
@@ -72,8 +75,9 @@ def build_context(design: Design, profile: Profile = DEFAULT_PROFILE) -> Context
     nominal_c = nominal_corner(design)
     op = operating_point(design, corners, steady_state=False)
     nom = operating_point(design, nominal_c, steady_state=True)
-    path = clamp_path(design, op.vcc, corners.values)
-    nominal_path = clamp_path(design, nom.vcc, nominal_c.values)
+    kind = kind_of(design.clamp)
+    path = kind.path(design.clamp, design, op.vcc, corners.values)
+    nominal_path = kind.path(design.clamp, design, nom.vcc, nominal_c.values)
     inductance = design.coil.inductance
     to = turn_off(path, inductance, op.r_coil, op.coil_current, op.dropout_current)
     to_nom = turn_off(nominal_path, inductance, nom.r_coil, nom.coil_current, nom.dropout_current)

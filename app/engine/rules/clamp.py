@@ -1,15 +1,29 @@
-"""Clamp rules: the flyback clamp's voltage, current and energy ratings."""
+"""Clamp rules: the flyback clamp's voltage, current and energy ratings.
+
+What differs between clamp kinds (which part carries which rating) is asked of the clamp
+kind's module in app/engine/clamps/; the rules here judge it the same way for every kind.
+"""
 
 from __future__ import annotations
 
 import numpy as np
 
-from ..design import TvsClamp
+from ..clamps import Stress
 from .core import Context, Finding, _si, judge, note, rule
 
 
-def _diode(ctx: Context):
-    return getattr(ctx.design.clamp, "diode", None)
+def _judge(ctx: Context, rule_id: str, stress: Stress) -> Finding:
+    fraction = getattr(ctx.profile, stress.derate)
+    return judge(
+        ctx,
+        rule_id,
+        stress.value,
+        stress.rating,
+        fraction * np.asarray(stress.rating),
+        stress.unit,
+        keep_below=True,
+        message=lambda i, s: stress.message(i),
+    )
 
 
 @rule("clamp.reverse_voltage", "Clamp reverse voltage")
@@ -17,24 +31,13 @@ def clamp_reverse(ctx: Context) -> Finding | None:
     """Diode across the coil: reverse voltage when on ≈ V_cc,max − V_CE(sat) against V_RRM.
     TVS from the switch to ground: it sees V_cc,max when the switch is off, against its minimum
     breakdown V_BR. Both derated by the profile's voltage fraction."""
-    clamp, op = ctx.design.clamp, ctx.op
-    if isinstance(clamp, TvsClamp):
-        v = op.vcc
-        rating = clamp.tvs.v_breakdown
-        return judge(
-            ctx,
-            "clamp.reverse_voltage",
-            v,
-            rating,
-            ctx.profile.voltage * rating,
-            "V",
-            keep_below=True,
-            message=lambda i, s: f"TVS stands off {_si(v[i], 'V')}, breakdown {_si(rating, 'V')} min",
-        )
-    diode = _diode(ctx)
+    standoff = ctx.clamp.standoff(ctx)
+    if standoff is not None:
+        return _judge(ctx, "clamp.reverse_voltage", standoff)
+    diode = ctx.clamp.diode(ctx.design.clamp)
     if diode is None:
         return None
-    v = op.vcc - ctx.design.switch.vce_sat
+    v = ctx.op.vcc - ctx.design.switch.vce_sat
     return judge(
         ctx,
         "clamp.reverse_voltage",
@@ -53,13 +56,10 @@ def clamp_peak(ctx: Context) -> Finding | None:
     diode's repetitive peak rating, or the TVS's peak pulse current; derated by the profile's
     current fraction."""
     i0 = ctx.turnoff.initial_current
-    clamp = ctx.design.clamp
-    if isinstance(clamp, TvsClamp):
-        rating = clamp.tvs.i_clamp
-    elif _diode(ctx) is not None:
-        rating = _diode(ctx).i_peak
-    else:
+    rated = ctx.clamp.peak_current_rating(ctx.design.clamp)
+    if rated is None:
         return None
+    rating, _ = rated
     return judge(
         ctx,
         "clamp.peak_current",
@@ -77,7 +77,7 @@ def clamp_average(ctx: Context) -> Finding | None:
     """Average diode current = Q·f, Q = ∫ i dt per turn-off = ∫ L·i/(R·i + v_c(i)) di,
     f = switchings per hour / 3600; against I_F(AV), derated by the current fraction.
     Needs switching.per_hour."""
-    diode, per_hour = _diode(ctx), ctx.design.switching.per_hour
+    diode, per_hour = ctx.clamp.diode(ctx.design.clamp), ctx.design.switching.per_hour
     if diode is None or per_hour is None:
         return None
     avg = ctx.turnoff.charge * per_hour / 3600.0
@@ -99,39 +99,11 @@ def clamp_energy(ctx: Context) -> Finding:
     ∫ v_device(i)·i dt of it; the rest heats the coil's own resistance. With a zener and
     switching.per_hour the zener's average power E_z·f is judged against its P_max (derated by
     the power fraction); with a TVS, the peak pulse power V_TVS(I_0)·I_0 against its P_PP."""
-    to, clamp = ctx.turnoff, ctx.design.clamp
+    to = ctx.turnoff
     worst = int(np.argmax(to.energy))
     share = to.clamp_energy[worst] / to.energy[worst] if to.energy[worst] > 0 else 0.0
     text = f"{_si(to.energy[worst], 'J')} per turn-off, {share:.0%} of it into the clamp"
-    per_hour = ctx.design.switching.per_hour
-    if isinstance(clamp, TvsClamp):
-        pulse = to.peak_switch_voltage * to.initial_current
-        rating = clamp.tvs.p_max
-        return judge(
-            ctx,
-            "clamp.energy",
-            pulse,
-            rating,
-            ctx.profile.power * rating,
-            "W",
-            keep_below=True,
-            message=lambda i, s: (
-                f"peak pulse {_si(pulse[i], 'W')} into the TVS, rated {_si(rating, 'W')} (a 10/1000 µs rating; a longer decay allows less); {text}"
-            ),
-        )
-    if getattr(clamp, "zener", None) is not None and per_hour is not None:
-        # The zener's share: its voltage times the charge (plus its rz loss, counted with it).
-        zener_energy = to.clamp_energy - to.diode_energy
-        power = zener_energy * per_hour / 3600.0
-        rating = clamp.zener.p_max
-        return judge(
-            ctx,
-            "clamp.energy",
-            power,
-            rating,
-            ctx.profile.power * rating,
-            "W",
-            keep_below=True,
-            message=lambda i, s: f"zener averages {_si(power[i], 'W')} at {per_hour:g}/h; {text}",
-        )
+    stress = ctx.clamp.energy_stress(ctx, text)
+    if stress is not None:
+        return _judge(ctx, "clamp.energy", stress)
     return note(ctx, "clamp.energy", float(to.energy[worst]), "J", text, worst)

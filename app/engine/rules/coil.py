@@ -64,7 +64,7 @@ def release(ctx: Context) -> Finding:
         if a["time_to_dropout"] is not None
     )
     suffix = f" (nominal {_si(nominal, 's')}" + (f"; alternatives at nominal: {alt})" if alt else ")")
-    if ctx.path.kind == "none":
+    if ctx.path.unclamped:
         suffix = " — unclamped: an upper bound, with the node held at V_(BR)CEO" + suffix
     if limit is None:
         worst = int(np.argmax(t))

@@ -32,7 +32,7 @@ def breakdown(ctx: Context) -> Finding:
     Against V_(BR)CEO, derated by the profile's voltage fraction. Unclamped, the node rises to
     avalanche: a violation for a BJT."""
     sw, to = ctx.design.switch, ctx.turnoff
-    if ctx.path.kind == "none":
+    if ctx.path.unclamped:
         worst = int(np.argmax(to.initial_current))
         return Finding(
             "switch.breakdown",
