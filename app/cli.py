@@ -104,7 +104,12 @@ def build_parser() -> argparse.ArgumentParser:
 
     net = sub.add_parser("netlist", help="write a SPICE netlist of the turn-off")
     net.add_argument("file")
-    net.add_argument("--corner", choices=("nominal", "worst"), default="nominal")
+    net.add_argument(
+        "--corner",
+        choices=("nominal", "worst", "release"),
+        default="nominal",
+        help="nominal; worst: the highest spike; release: the slowest release",
+    )
     net.add_argument("-o", "--output", help="file to write (default: standard output)")
     net.set_defaults(run=_netlist)
 

@@ -152,7 +152,15 @@ class Diode(Model):
     name: str = Field(min_length=1, max_length=200)
     vrrm: PositiveVolts = Field(description="repetitive peak reverse voltage rating")
     if_avg: PositiveAmps = Field(description="average forward current rating")
-    i_peak: PositiveAmps = Field(description="repetitive / surge peak forward current rating")
+    i_peak: PositiveAmps = Field(
+        description="peak forward current rating, in A; taken as the repetitive figure when i_frm is absent"
+    )
+    i_frm: PositiveAmps | None = Field(
+        None, description="repetitive peak forward current I_FRM, in A (judged at every turn-off)"
+    )
+    i_fsm: PositiveAmps | None = Field(
+        None, description="non-repetitive surge current I_FSM, in A (a single event; not judged per turn-off)"
+    )
     vf: PositiveVolts = Field(description="forward voltage at vf_at")
     vf_at: PositiveAmps = Field(description="current at which vf is specified")
     is_: Annotated[float, *_quantity("A", positive=True)] | None = Field(
@@ -167,6 +175,8 @@ class Diode(Model):
     def _consistent(self) -> Diode:
         if self.rs is not None and self.rs * self.vf_at >= self.vf:
             raise _problem("rs × vf_at must be below vf (the junction needs some forward voltage)")
+        if self.i_frm is not None and self.i_fsm is not None and self.i_frm > self.i_fsm:
+            raise _problem("i_frm (repetitive) must not be above i_fsm (surge)")
         return self
 
 
@@ -183,7 +193,15 @@ class Zener(Model):
 class Tvs(Model):
     """A TVS diode from the switch node to ground."""
 
-    v_breakdown: PositiveVolts = Field(description="minimum breakdown voltage V_BR at i_test")
+    v_breakdown: PositiveVolts = Field(description="minimum breakdown voltage V_BR(min) at i_test, in V")
+    v_breakdown_max: PositiveVolts | None = Field(
+        None,
+        description="maximum breakdown voltage V_BR(max) at i_test, in V; when absent 1.1 × v_breakdown "
+        "is assumed (typical of ±5 % parts, from memory) and the spike finding says so",
+    )
+    v_standoff: PositiveVolts | None = Field(
+        None, description="stand-off (reverse working) voltage V_RWM, in V; the supply must stay below it"
+    )
     v_clamp: PositiveVolts = Field(description="maximum clamping voltage at i_clamp")
     i_clamp: PositiveAmps = Field(description="peak pulse current at which v_clamp holds")
     p_max: Watts = Field(description="peak pulse power rating")
@@ -195,6 +213,10 @@ class Tvs(Model):
             raise _problem("v_clamp must be above v_breakdown")
         if self.i_clamp <= self.i_test:
             raise _problem("i_clamp must be above i_test")
+        if self.v_breakdown_max is not None and not self.v_breakdown <= self.v_breakdown_max < self.v_clamp:
+            raise _problem("v_breakdown_max must lie from v_breakdown up to (not including) v_clamp")
+        if self.v_standoff is not None and self.v_standoff >= self.v_breakdown:
+            raise _problem("v_standoff must be below v_breakdown")
         return self
 
 

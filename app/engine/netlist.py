@@ -18,7 +18,8 @@ from .review import build_context
 
 
 def netlist(design: Design, corner: str = "nominal") -> str:
-    """The turn-off netlist at the nominal corner, or at the worst corner for the spike."""
+    """The turn-off netlist at the nominal corner, at the worst corner for the spike ("worst"),
+    or at the corner of the slowest release ("release")."""
     ctx = build_context(design)
     if corner == "nominal":
         op, path, to, index = ctx.nominal, ctx.nominal_path, ctx.turnoff_nominal, 0
@@ -30,8 +31,16 @@ def netlist(design: Design, corner: str = "nominal") -> str:
         label = "worst corner for the turn-off spike: " + ", ".join(
             f"{k}={v:g}" for k, v in ctx.corners.describe(index).items()
         )
+    elif corner == "release":
+        to = ctx.turnoff
+        t = to.time_to_dropout
+        index = int(np.argmax(np.where(np.isfinite(t), t, -1)))
+        op, path = ctx.op, ctx.path
+        label = "slowest-release corner: " + ", ".join(
+            f"{k}={v:g}" for k, v in ctx.corners.describe(index).items()
+        )
     else:
-        raise ValueError("corner must be nominal or worst")
+        raise ValueError("corner must be nominal, worst or release")
     vcc = float(op.vcc[index])
     i0 = float(to.initial_current[index])
     ido = float(op.dropout_current)

@@ -20,6 +20,7 @@ from .diode import DiodeAcrossCoil, DiodeClamp
 from .diode_resistor import DiodeResistorAcrossCoil, DiodeResistorClamp
 from .diode_zener import DiodeZenerAcrossCoil, DiodeZenerClamp
 from .none import NoClamp, Unclamped
+from .rc import RcAcrossCoil, RcClamp
 from .resistor import ResistorAcrossCoil, ResistorClamp
 from .tvs import TvsClamp, TvsToGround
 
@@ -32,6 +33,7 @@ KINDS: dict[str, ClampKind] = {
         DiodeResistorAcrossCoil(),
         ResistorAcrossCoil(),
         TvsToGround(),
+        RcAcrossCoil(),
     )
 }
 CLAMP_KINDS: tuple[str, ...] = tuple(KINDS)
@@ -64,6 +66,7 @@ __all__ = [
     "DiodeZenerClamp",
     "FormSlot",
     "NoClamp",
+    "RcClamp",
     "ResistorClamp",
     "Stress",
     "TvsClamp",

@@ -147,7 +147,9 @@ class ClampKind:
         diode = self.diode(clamp)
         if diode is None:
             return None
-        return diode.i_peak, "repetitive peak"
+        if diode.i_frm is not None:
+            return diode.i_frm, "repetitive peak I_FRM"
+        return diode.i_peak, "peak (i_peak, taken as the repetitive rating)"
 
     def energy_stress(self, ctx: Context, share_text: str) -> Stress | None:
         """A power the kind's energy rating limits (TVS peak pulse, zener average), if any."""
@@ -157,8 +159,10 @@ class ClampKind:
         """A clamp from the switch to ground stands off the supply while the switch is off."""
         return None
 
-    def resistor_power(self, ctx: Context) -> tuple[np.ndarray, float] | None:
-        """(continuous power while on, power rating) for kinds with a clamp resistor."""
+    def resistor_power(self, ctx: Context) -> tuple[np.ndarray, float | None] | None:
+        """(power the clamp resistor dissipates continuously while the coil is on, its power
+        rating or None) for kinds with a clamp resistor; its turn-off share comes from the
+        turn-off's ``resistor_energy``."""
         return None
 
     def capacitor_voltage(self, ctx: Context) -> Stress | None:

@@ -8,7 +8,7 @@ from typing import Literal
 import numpy as np
 from pydantic import Field
 
-from ..design import Diode, Model, Ohms, Tolerance
+from ..design import Diode, Model, Ohms, Tolerance, Watts
 from ..physics import DiodeModel
 from .base import ClampKind, ClampPath, FormSlot, g, spread
 from .diode import diode_model_line
@@ -19,6 +19,7 @@ class DiodeResistorClamp(Model):
     diode: Diode
     r: Ohms
     tolerance: Tolerance = Field(0.0, description="resistor tolerance, percent")
+    power_rating: Watts | None = Field(None, description="the clamp resistor's power rating, in W")
 
 
 @dataclass(frozen=True)
@@ -34,7 +35,8 @@ class DiodeResistorPath(ClampPath):
 
 RESISTOR_FIELDS = (
     FormSlot("r", "Clamp resistor", "Ω"),
-    FormSlot("tolerance", "Clamp resistor tolerance", "%"),
+    FormSlot("tolerance", "Clamp tolerance", "%"),
+    FormSlot("power_rating", "Clamp resistor power rating", "W", hint="blank: not judged"),
 )
 
 
@@ -52,6 +54,10 @@ class DiodeResistorAcrossCoil(ClampKind):
 
     def path(self, clamp, design, vcc, values):
         return DiodeResistorPath(vcc, diode=DiodeModel.from_part(clamp.diode), r=values["r_clamp"])
+
+    def resistor_power(self, ctx):
+        # Nothing while on (the diode blocks); its turn-off share only.
+        return np.zeros(ctx.corners.size), ctx.design.clamp.power_rating
 
     def netlist_lines(self, path, index):
         return [diode_model_line(path.diode), "D1 sw k dclamp", f"RS k vcc {g(path.r[index])}"]

@@ -8,7 +8,7 @@ from typing import Literal
 import numpy as np
 from pydantic import Field
 
-from ..design import Model, Ohms, Tolerance
+from ..design import Model, Ohms, Tolerance, Watts
 from .base import ClampKind, ClampPath, g, spread
 from .diode_resistor import RESISTOR_FIELDS
 
@@ -17,6 +17,7 @@ class ResistorClamp(Model):
     kind: Literal["resistor"]
     r: Ohms
     tolerance: Tolerance = Field(0.0, description="resistor tolerance, percent")
+    power_rating: Watts | None = Field(None, description="the clamp resistor's power rating, in W")
 
 
 @dataclass(frozen=True)
@@ -47,6 +48,10 @@ class ResistorAcrossCoil(ClampKind):
 
     def parallel_resistance(self, clamp, values, size):
         return values["r_clamp"]
+
+    def resistor_power(self, ctx):
+        # V²/R the whole time the coil is on; V = V_cc (V_CE(sat) taken as 0, the worst case).
+        return ctx.op.vcc**2 / ctx.corners["r_clamp"], ctx.design.clamp.power_rating
 
     def netlist_lines(self, path, index):
         return [f"RP sw vcc {g(path.r[index])}"]
