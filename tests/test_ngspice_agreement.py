@@ -345,3 +345,31 @@ def test_gauss_legendre_time_to_dropout_matches_scipy_quad(kind):
                     )
                 checked += 1
     assert checked >= 8
+
+
+@pytest.mark.parametrize("v_breakdown_max", [None, 35.0])
+def test_tvs_spike_at_maximum_breakdown_agrees_with_ngspice(tmp_path, v_breakdown_max):
+    """The worst-spike netlist of a TVS clamp uses V_BR(max) (given, or 1.1 × V_BR(min)
+    assumed): the breakdown line through (I_T, V_BR(max)) and (I_clamp, V_clamp)."""
+    document = _reference_design()
+    tvs = {"v_breakdown": 33, "v_clamp": 53, "i_clamp": 1, "p_max": 400}
+    if v_breakdown_max is not None:
+        tvs["v_breakdown_max"] = v_breakdown_max
+    document["clamp"] = {"kind": "tvs_switch", "tvs": tvs}
+    design_path = tmp_path / "tvs.json"
+    design_path.write_text(json.dumps(document), encoding="utf-8")
+    netlist_path = tmp_path / "tvs.cir"
+    _cli("netlist", str(design_path), "--corner", "worst", "-o", str(netlist_path))
+    text = netlist_path.read_text(encoding="utf-8")
+    v_max = v_breakdown_max or 36.3
+    assert f"tvs_breakdown={v_max:g}" in text
+    engine_peak, engine_time = _engine_at_netlist_corner(document, text)
+    # Hand: V(I_0) on the V_BR(max) line, V_T from the SI defining constants (scipy.constants).
+    i0 = float(re.search(r"^\* I_0 = ([-+0-9.eE]+) A", text, re.MULTILINE)[1])
+    r_s = (53 - v_max - V_T * math.log(1000)) / 0.999
+    assert engine_peak == pytest.approx(v_max + V_T * math.log(i0 / 1e-3) + (i0 - 1e-3) * r_s, rel=1e-9)
+    spice_peak, spice_time, _ = run_ngspice(netlist_path)
+    # ngspice (Debian package) running the same circuit.
+    assert engine_peak == pytest.approx(spice_peak, rel=TOLERANCE)
+    # ngspice (Debian package) running the same circuit.
+    assert engine_time == pytest.approx(spice_time, rel=TOLERANCE)
