@@ -61,3 +61,13 @@ def test_parts_csv_carries_the_new_clamp_part_fields(designer):
     response = designer.post("/parts/import", data={"kind": "tvs"}, files={"file": ("b.csv", bad)})
     assert 400 <= response.status_code < 500
     assert "v_breakdown_max" in response.text
+
+
+def test_printed_record_shows_the_new_clamp_findings(reviewer, world):
+    """The demo's TVS-clamped damper (K4): the record lists the stand-off finding and says the
+    TVS's maximum breakdown was assumed."""
+    rev = revision_ids(world, "K4 exhaust damper solenoid")[-1]
+    record = reviewer.get(f"/revisions/{rev}/record")
+    assert record.status_code == 200
+    assert "clamp.standoff" in record.text or "Clamp stand-off" in record.text
+    assert "assumed" in record.text and "V_BR(max)" in record.text
