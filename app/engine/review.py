@@ -72,13 +72,19 @@ def _e24_below(x: float) -> float | None:
 
 def _passes(design: Design, profile: Profile) -> tuple[bool, Context]:
     """Whether a design passes the spike and every clamp rule at its worst corner."""
-    ctx = build_context(design, profile, alternatives=False)
+    # The charge and energy integrals only matter to a rule with a switching rate to apply.
+    energies = design.switching.per_hour is not None
+    ctx = build_context(design, profile, alternatives=False, energies=energies)
+    return _passes_ctx(ctx), ctx
+
+
+def _passes_ctx(ctx: Context) -> bool:
     for registered in RULES.values():
         if registered.id == "switch.breakdown" or registered.id.startswith("clamp."):
             finding = registered.check(ctx)
             if finding is not None and finding.status in ("violation", "marginal"):
-                return False, ctx
-    return True, ctx
+                return False
+    return True
 
 
 def _alternatives(ctx: Context, profile: Profile) -> list[dict]:
@@ -134,7 +140,10 @@ def _alternatives(ctx: Context, profile: Profile) -> list[dict]:
     for _, options in tries:
         for option in options:
             label, clamp = option if isinstance(option, tuple) else ("diode", option)
-            ok, alt = _passes(design.model_copy(update={"clamp": clamp}), profile)
+            if clamp == design.clamp:  # the design's own clamp: already evaluated
+                ok, alt = _passes_ctx(ctx), ctx
+            else:
+                ok, alt = _passes(design.model_copy(update={"clamp": clamp}), profile)
             if not ok:
                 continue
             t_nom = float(alt.turnoff_nominal.time_to_dropout[0])
@@ -153,7 +162,7 @@ def _alternatives(ctx: Context, profile: Profile) -> list[dict]:
 
 
 def build_context(
-    design: Design, profile: Profile = DEFAULT_PROFILE, *, alternatives: bool = True
+    design: Design, profile: Profile = DEFAULT_PROFILE, *, alternatives: bool = True, energies: bool = True
 ) -> Context:
     given = profile
     profile = profile.with_limits(design.limits)
@@ -165,7 +174,7 @@ def build_context(
     path = kind.path(design.clamp, design, op.vcc, corners.values)
     nominal_path = kind.path(design.clamp, design, nom.vcc, nominal_c.values)
     inductance = design.coil.inductance
-    to = turn_off(path, inductance, op.r_coil, op.coil_current, op.dropout_current)
+    to = turn_off(path, inductance, op.r_coil, op.coil_current, op.dropout_current, energies=energies)
     to_nom = turn_off(nominal_path, inductance, nom.r_coil, nom.coil_current, nom.dropout_current)
     ctx = Context(design, profile, corners, op, nom, path, nominal_path, to, to_nom)
     ctx.extras["alternatives"] = _alternatives(ctx, given) if alternatives else []
