@@ -98,7 +98,7 @@ def _alternatives(ctx: Context, profile: Profile) -> list[dict]:
     i0_worst = float(np.max(ctx.turnoff.initial_current))
     limit = ctx.profile.voltage * design.switch.vceo
     v_budget = limit - design.supply.high
-    tries: list[tuple[str, list]] = [("diode", [DiodeClamp(kind="diode", diode=diode_part)])]
+    tries: list[tuple[str, list]] = [("diode", [("diode", DiodeClamp(kind="diode", diode=diode_part))])]
     # Zener: V_Z(1 + tol) + V_T·ln(I_0/I_ZT) + (I_0 − I_ZT)·r_Z + V_F(I_0) within the budget.
     v_f = float(diode.voltage(i0_worst))
     room = (
@@ -139,7 +139,7 @@ def _alternatives(ctx: Context, profile: Profile) -> list[dict]:
     out = []
     for _, options in tries:
         for option in options:
-            label, clamp = option if isinstance(option, tuple) else ("diode", option)
+            label, clamp = option
             if clamp == design.clamp:  # the design's own clamp: already evaluated
                 ok, alt = _passes_ctx(ctx), ctx
             else:
