@@ -71,3 +71,12 @@ def test_printed_record_shows_the_new_clamp_findings(reviewer, world):
     assert record.status_code == 200
     assert "clamp.standoff" in record.text or "Clamp stand-off" in record.text
     assert "assumed" in record.text and "V_BR(max)" in record.text
+
+
+def test_revision_page_shows_alternatives_at_the_slowest_corner(reviewer, world):
+    rev = revision_ids(world, K2)[-1]
+    report = reviewer.get(f"/api/v1/revisions/{rev}/report").json()
+    alternatives = report["transient"]["alternatives"]
+    assert alternatives and all(a["time_to_dropout_worst"] >= a["time_to_dropout"] for a in alternatives)
+    page = reviewer.get(f"/revisions/{rev}").text
+    assert "Slowest release" in page
