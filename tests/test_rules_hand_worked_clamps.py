@@ -306,3 +306,34 @@ def test_alternatives_pass_the_clamp_rules_at_the_worst_corner():
             assert f["switch.breakdown"]["status"] == "ok"
             assert f["switch.breakdown"]["corner"]["vz"] == pytest.approx(vz * 1.05)
             assert all(x["status"] in ("ok", "note") for k, x in f.items() if k.startswith("clamp."))
+
+
+# ---------------------------------------------------------------- the registry is complete
+
+
+def test_every_clamp_kind_is_in_the_design_file_schema_and_the_generator():
+    import importlib.util
+    from pathlib import Path
+
+    from app.engine.clamps import KINDS
+    from app.engine.schema import design_schema
+
+    here = Path(__file__).resolve().parent
+    spec = importlib.util.spec_from_file_location("designgen", here / "designgen.py")
+    designgen = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(designgen)
+    assert set(designgen.CLAMP_KINDS) == set(KINDS)  # the ngspice agreement covers every kind
+    clamp = design_schema()["properties"]["clamp"]
+    assert set(clamp["discriminator"]["mapping"]) == set(KINDS)
+
+
+def test_every_clamp_rule_has_a_hand_worked_check():
+    from pathlib import Path
+
+    from app.engine.rules import RULES
+
+    here = Path(__file__).resolve().parent
+    text = "".join(p.read_text(encoding="utf-8") for p in here.glob("test_*.py"))
+    for rule_id in RULES:
+        if rule_id.startswith("clamp."):
+            assert f'"{rule_id}"' in text, rule_id
