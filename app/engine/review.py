@@ -66,8 +66,8 @@ def e24_at_most(x: float) -> float | None:
 
 
 def _e24_below(x: float) -> float | None:
-    """The E24 value just below x."""
-    return e24_at_most(x * (1 - 1e-6) / 1.0001)
+    """The E24 value just below x (neighbouring E24 values are at least 7 % apart)."""
+    return e24_at_most(x * 0.99)
 
 
 def _passes(design: Design, profile: Profile) -> tuple[bool, Context]:
