@@ -128,10 +128,11 @@ def _schema(args: argparse.Namespace) -> int:
 
 
 def _netlist(args: argparse.Namespace) -> int:
+    from .engine.clamps import kind_of
     from .engine.netlist import netlist
 
     design = load_design_file(args.file)
-    if design.clamp.kind == "none":
+    if kind_of(design.clamp).unclamped:
         raise InputError.about(
             args.file, [("clamp.kind", '"none" has no finite turn-off to simulate; add a clamp')]
         )
@@ -173,7 +174,12 @@ def build_parser() -> argparse.ArgumentParser:
 
     net = sub.add_parser("netlist", help="write a SPICE netlist of the turn-off")
     net.add_argument("file")
-    net.add_argument("--corner", choices=("nominal", "worst"), default="nominal")
+    net.add_argument(
+        "--corner",
+        choices=("nominal", "worst", "release"),
+        default="nominal",
+        help="nominal; worst: the highest spike; release: the slowest release",
+    )
     net.add_argument("-o", "--output", help="file to write (default: standard output)")
     net.set_defaults(run=_netlist)
 

@@ -26,6 +26,7 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 from app.engine import evaluate, parse_design  # noqa: E402
+from app.engine.clamps import kind_of  # noqa: E402
 from app.engine.netlist import netlist  # noqa: E402
 
 _spec = importlib.util.spec_from_file_location("designgen", ROOT / "tests" / "designgen.py")
@@ -63,7 +64,7 @@ def main() -> None:
     if ngspice is None:
         print("ngspice: not installed (apt-get install ngspice); no ratio")
         return
-    clamped = [d for d in designs if d.clamp.kind != "none"]
+    clamped = [d for d in designs if not kind_of(d.clamp).unclamped]
     spice_times = []
     failures = 0
     with tempfile.TemporaryDirectory() as tmp:

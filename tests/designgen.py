@@ -17,7 +17,7 @@ from __future__ import annotations
 import math
 import random
 
-CLAMP_KINDS = ("none", "diode", "diode_zener", "diode_resistor", "resistor", "tvs_switch")
+CLAMP_KINDS = ("none", "diode", "diode_zener", "diode_resistor", "resistor", "tvs_switch", "rc")
 
 _PREFIXES = ((1e-12, "p"), (1e-9, "n"), (1e-6, "u"), (1e-3, "m"), (1.0, ""), (1e3, "k"), (1e6, "M"))
 _SUPPLIES = (5.0, 6.0, 9.0, 12.0, 15.0, 24.0, 28.0, 36.0, 48.0)
@@ -228,6 +228,8 @@ def random_design(rng: random.Random, clamp_kind: str) -> dict:
         clamp["r"] = w(_rounded(r_coil * _log_uniform(rng, 0.1, 3.0), 3), "Ω")
         if rng.random() < 0.7:
             clamp["tolerance"] = w.percent(rng.choice((0.01, 0.05, 0.1)))
+        if rng.random() < 0.5:
+            clamp["power_rating"] = w(rng.choice((0.125, 0.25, 0.5)), "W")
     elif clamp_kind == "resistor":
         clamp["r"] = w(_rounded(r_coil * _log_uniform(rng, 0.5, 10.0), 3), "Ω")
         if rng.random() < 0.7:
@@ -244,7 +246,26 @@ def random_design(rng: random.Random, clamp_kind: str) -> dict:
         }
         if rng.random() < 0.5:
             tvs["i_test"] = rng.choice((0.001, 0.005, 0.01))
+        if rng.random() < 0.6:
+            # The datasheet's maximum breakdown, below the clamping voltage.
+            tvs["v_breakdown_max"] = _rounded(v_breakdown * rng.uniform(1.03, 1.15), 3)
+        if rng.random() < 0.4:
+            tvs["v_standoff"] = _rounded(v_breakdown * rng.uniform(0.8, 0.9), 3)
         clamp["tvs"] = tvs
+    elif clamp_kind == "rc":
+        # A snubber sized as common practice suggests: R near √(L/C), with √(L/C) of the order
+        # of the coil resistance (so the spike is of the order of the supply); some ring.
+        z = r_coil * _log_uniform(rng, 0.3, 3.0)
+        clamp.update(
+            {
+                "r": w(_rounded(z * _log_uniform(rng, 0.2, 1.5), 3), "Ω"),
+                "c": w(_rounded(inductance / z**2, 3), "F"),
+                "c_voltage_rating": float(rng.choice((25, 50, 63, 100, 250, 400))),
+                "power_rating": w(rng.choice((0.125, 0.25, 0.5, 1.0)), "W"),
+            }
+        )
+        if rng.random() < 0.7:
+            clamp["tolerance"] = w.percent(rng.choice((0.05, 0.1, 0.2)))
 
     design = {
         "format": "clampdown-design/1",

@@ -35,10 +35,12 @@ def test_the_worst_current_corner_records_the_cold_coil_resistance_used():
 
 
 def test_pick_up_records_the_hot_coil_it_was_judged_with():
-    # R_th = 50 K/W, hot start at 11.8 V (hand-worked in test_rules_hand_worked):
-    # R = (160 + √(160² + 4·160·0.00393·50·11.8²))/2 = 183.816 Ω, at 20 + 11.8²/183.816·50 = 57.88 °C.
-    r_hot = (160 + math.sqrt(160**2 + 4 * 160 * ALPHA * 50 * 11.8**2)) / 2
-    t_hot = 20 + 11.8**2 / r_hot * 50
+    # R_th = 50 K/W, hot start at V_cc,max − V_CE(sat),min = 12 − 0 = 12 V (the coil's heating is
+    # a stress: the lowest V_CE(sat) heats it most; hand-worked in test_rules_hand_worked):
+    # R = (160 + √(160² + 4·160·0.00393·50·12²))/2 = 184.534 Ω, at 20 + 12²/184.534·50 = 59.02 °C.
+    r_hot = (160 + math.sqrt(160**2 + 4 * 160 * ALPHA * 50 * 12.0**2)) / 2
+    t_hot = 20 + 12.0**2 / r_hot * 50
+    assert r_hot == pytest.approx(184.534, rel=1e-5)
     corner = _findings(design(**{"coil.rth": 50, "coil.v_pickup": 10}))["coil.pickup"]["corner"]
     assert corner["r_coil_used"] == pytest.approx(r_hot, rel=1e-5)
     assert corner["coil_temp"] == pytest.approx(t_hot, rel=1e-5)

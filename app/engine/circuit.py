@@ -10,8 +10,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .clamps import kind_of
 from .corners import Corners
-from .design import Coil, Design, DividerDrive, ResistorClamp
+from .design import Coil, Design, DividerDrive
 from .physics import COPPER_ALPHA_20, VBE_TEMPCO, copper_ratio, self_heated_resistance
 
 
@@ -136,7 +137,7 @@ def operating_point(
     r_20 = c["r_coil"] / copper_ratio(coil.r_at, 20.0)
     coil_temp_hot = 20.0 + (r_pickup / r_20 - 1) / COPPER_ALPHA_20
 
-    r_clamp = c["r_clamp"] if isinstance(design.clamp, ResistorClamp) else np.full(c.size, np.inf)
+    r_clamp = kind_of(design.clamp).parallel_resistance(design.clamp, c.values, c.size)
     r_load = 1 / (1 / r_coil + 1 / r_clamp)
     saturated_current = v_on / r_load  # coil plus resistor clamp, at V_CE(sat) max
 

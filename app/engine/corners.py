@@ -11,7 +11,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .design import Design, DiodeResistorClamp, DiodeZenerClamp, DividerDrive, ResistorClamp
+from .clamps import kind_of
+from .design import Design, DividerDrive
 
 
 @dataclass(frozen=True)
@@ -66,11 +67,7 @@ def factors(design: Design) -> list[Factor]:
     else:
         out.append(Factor("drive_on", drive.high_min, drive.high, "V"))
         out.append(Factor("drive_off", drive.low, drive.low_max, "V"))
-    clamp = design.clamp
-    if isinstance(clamp, DiodeZenerClamp):
-        out.append(Factor("vz", *_spread(clamp.zener.vz, clamp.zener.tolerance), "V"))
-    if isinstance(clamp, (DiodeResistorClamp, ResistorClamp)):
-        out.append(Factor("r_clamp", *_spread(clamp.r, clamp.tolerance), "Ω"))
+    out += [Factor(*f) for f in kind_of(design.clamp).factors(design.clamp)]
     return out
 
 
@@ -108,9 +105,6 @@ def nominal_corner(design: Design) -> Corners:
     else:
         values["drive_on"] = design.drive.high
         values["drive_off"] = design.drive.low
-    if isinstance(design.clamp, DiodeZenerClamp):
-        values["vz"] = design.clamp.zener.vz
-    if isinstance(design.clamp, (DiodeResistorClamp, ResistorClamp)):
-        values["r_clamp"] = design.clamp.r
+    values.update(kind_of(design.clamp).nominal(design.clamp))
     arrays = {k: np.array([float(v)]) for k, v in values.items()}
     return Corners((), arrays, 1)

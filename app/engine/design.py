@@ -15,9 +15,7 @@ from pydantic import (
     BaseModel,
     BeforeValidator,
     ConfigDict,
-    Discriminator,
     Field,
-    Tag,
     ValidationError,
     WithJsonSchema,
     model_validator,
@@ -37,6 +35,7 @@ QUANTITY_RANGES: dict[str, tuple[float, float]] = {
     "A": (1e-12, 1000.0),
     "Ω": (1e-3, 1e9),  # 1 mΩ to 1 GΩ: beyond either end wiring or leakage decides
     "H": (1e-9, 100.0),
+    "F": (1e-12, 1.0),  # 1 pF to 1 F: snubber capacitors are nF to tens of µF
     "W": (0.0, 100e3),  # TVS peak pulse ratings reach tens of kW
     "s": (0.0, 3600.0),
     "°C": (-70.0, 250.0),
@@ -307,7 +306,15 @@ class Diode(PartModel):
     name: str = Field(min_length=1, max_length=200)
     vrrm: PositiveVolts = Field(description="repetitive peak reverse voltage rating")
     if_avg: PositiveAmps = Field(description="average forward current rating")
-    i_peak: PositiveAmps = Field(description="repetitive / surge peak forward current rating")
+    i_peak: PositiveAmps = Field(
+        description="peak forward current rating, in A; taken as the repetitive figure when i_frm is absent"
+    )
+    i_frm: PositiveAmps | None = Field(
+        None, description="repetitive peak forward current I_FRM, in A (judged at every turn-off)"
+    )
+    i_fsm: PositiveAmps | None = Field(
+        None, description="non-repetitive surge current I_FSM, in A (a single event; not judged per turn-off)"
+    )
     vf: ForwardVolts = Field(description="forward voltage at vf_at")
     vf_at: PositiveAmps = Field(description="current at which vf is specified")
     is_: Annotated[float, *_quantity("A", positive=True, low=1e-30, high=1.0)] | None = Field(
@@ -322,6 +329,8 @@ class Diode(PartModel):
     def _consistent(self) -> Diode:
         if self.rs is not None and self.rs * self.vf_at >= self.vf:
             raise _problem("rs × vf_at must be below vf (the junction needs some forward voltage)")
+        if self.i_frm is not None and self.i_fsm is not None and self.i_frm > self.i_fsm:
+            raise _problem("i_frm (repetitive) must not be above i_fsm (surge)")
         return self
 
 
@@ -338,7 +347,15 @@ class Zener(PartModel):
 class Tvs(PartModel):
     """A TVS diode from the switch node to ground."""
 
-    v_breakdown: PositiveVolts = Field(description="minimum breakdown voltage V_BR at i_test")
+    v_breakdown: PositiveVolts = Field(description="minimum breakdown voltage V_BR(min) at i_test, in V")
+    v_breakdown_max: PositiveVolts | None = Field(
+        None,
+        description="maximum breakdown voltage V_BR(max) at i_test, in V; when absent 1.1 × v_breakdown "
+        "is assumed (typical of ±5 % parts, from memory) and the spike finding says so",
+    )
+    v_standoff: PositiveVolts | None = Field(
+        None, description="stand-off (reverse working) voltage V_RWM, in V; the supply must stay below it"
+    )
     v_clamp: PositiveVolts = Field(description="maximum clamping voltage at i_clamp")
     i_clamp: PositiveAmps = Field(description="peak pulse current at which v_clamp holds")
     p_max: Watts = Field(description="peak pulse power rating")
@@ -350,6 +367,10 @@ class Tvs(PartModel):
             raise _problem("v_clamp must be above v_breakdown")
         if self.i_clamp <= self.i_test:
             raise _problem("i_clamp must be above i_test")
+        if self.v_breakdown_max is not None and not self.v_breakdown <= self.v_breakdown_max < self.v_clamp:
+            raise _problem("v_breakdown_max must lie from v_breakdown up to (not including) v_clamp")
+        if self.v_standoff is not None and self.v_standoff >= self.v_breakdown:
+            raise _problem("v_standoff must be below v_breakdown")
         return self
 
 
@@ -457,50 +478,8 @@ class Base(Model):
     power_rating: Watts
 
 
-class NoClamp(Model):
-    kind: Literal["none"]
-
-
-class DiodeClamp(Model):
-    kind: Literal["diode"]
-    diode: Diode
-
-
-class DiodeZenerClamp(Model):
-    kind: Literal["diode_zener"]
-    diode: Diode
-    zener: Zener
-
-
-class DiodeResistorClamp(Model):
-    kind: Literal["diode_resistor"]
-    diode: Diode
-    r: Ohms
-    tolerance: Tolerance = Field(0.0, description="resistor tolerance, percent")
-
-
-class ResistorClamp(Model):
-    kind: Literal["resistor"]
-    r: Ohms
-    tolerance: Tolerance = Field(0.0, description="resistor tolerance, percent")
-
-
-class TvsClamp(Model):
-    kind: Literal["tvs_switch"]
-    tvs: Tvs
-
-
-Clamp = Annotated[
-    Annotated[NoClamp, Tag("none")]
-    | Annotated[DiodeClamp, Tag("diode")]
-    | Annotated[DiodeZenerClamp, Tag("diode_zener")]
-    | Annotated[DiodeResistorClamp, Tag("diode_resistor")]
-    | Annotated[ResistorClamp, Tag("resistor")]
-    | Annotated[TvsClamp, Tag("tvs_switch")],
-    Discriminator("kind"),
-]
-CLAMP_KINDS = ("none", "diode", "diode_zener", "diode_resistor", "resistor", "tvs_switch")
-
+# The clamp kinds live one module each in app.engine.clamps, which reads the part models above.
+from .clamps import CLAMP_KINDS, Clamp  # noqa: E402
 
 # Inrush as a multiple of the running current when the design gives none (common practice:
 # motors draw often 5–8× at start and incandescent lamps 10–15×, the upper ends taken; a

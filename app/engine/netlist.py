@@ -11,60 +11,15 @@ from __future__ import annotations
 
 import numpy as np
 
+from .clamps import kind_of
+from .clamps.base import g as _g
 from .design import Design
 from .review import build_context
-from .transient import ClampPath
-
-
-def _g(x: float) -> str:
-    return f"{float(x):.9g}"
-
-
-def _clamp_lines(path: ClampPath, index: int) -> list[str]:
-    """The clamp's elements.
-
-    A series resistance of zero is left out rather than written as a tiny resistor: a
-    micro-ohm element makes ngspice's matrix so stiff that the run stalls.
-    """
-    lines: list[str] = []
-    if path.diode is not None:
-        d = path.diode
-        lines.append(f".model dclamp D(IS={_g(d.i_s)} N={_g(d.n)} RS={_g(d.r_s)})")
-    kind = path.kind
-    if kind == "diode":
-        lines.append("D1 sw vcc dclamp")
-    elif kind == "diode_zener":
-        b = path.breakdown
-        v_br = float(path.v_br[index])
-        # SPICE breakdown: V(i) = BV + N_BV·V_T·ln(i/IBV); the series resistor adds i·R_Z, so
-        # BV = V_Z − I_ZT·R_Z makes V(I_ZT) = V_Z as in the engine's model.
-        lines.append(f".model dzener D(BV={_g(v_br - b.i_test * b.r_s)} IBV={_g(b.i_test)} NBV=1)")
-        lines.append("D1 sw k dclamp")
-        if b.r_s > 0:
-            lines.append(f"RZ k z {_g(b.r_s)}")
-            lines.append("DZ vcc z dzener")
-        else:
-            lines.append("DZ vcc k dzener")
-    elif kind == "diode_resistor":
-        lines.append("D1 sw k dclamp")
-        lines.append(f"RS k vcc {_g(path.r[index])}")
-    elif kind == "resistor":
-        lines.append(f"RP sw vcc {_g(path.r[index])}")
-    elif kind == "tvs_switch":
-        b = path.breakdown
-        lines.append(f".model dtvs D(BV={_g(b.v_br - b.i_test * b.r_s)} IBV={_g(b.i_test)} NBV=1)")
-        if b.r_s > 0:
-            lines.append(f"RT sw t {_g(b.r_s)}")
-            lines.append("DT 0 t dtvs")
-        else:
-            lines.append("DT 0 sw dtvs")
-    else:
-        raise ValueError("an unclamped coil has no finite turn-off to simulate")
-    return lines
 
 
 def netlist(design: Design, corner: str = "nominal") -> str:
-    """The turn-off netlist at the nominal corner, or at the worst corner for the spike."""
+    """The turn-off netlist at the nominal corner, at the worst corner for the spike ("worst"),
+    or at the corner of the slowest release ("release")."""
     ctx = build_context(design)
     if corner == "nominal":
         op, path, to, index = ctx.nominal, ctx.nominal_path, ctx.turnoff_nominal, 0
@@ -76,13 +31,22 @@ def netlist(design: Design, corner: str = "nominal") -> str:
         label = "worst corner for the turn-off spike: " + ", ".join(
             f"{k}={v:g}" for k, v in ctx.corners.describe(index).items()
         )
+    elif corner == "release":
+        to = ctx.turnoff
+        t = to.time_to_dropout
+        index = int(np.argmax(np.where(np.isfinite(t), t, -1)))
+        op, path = ctx.op, ctx.path
+        label = "slowest-release corner: " + ", ".join(
+            f"{k}={v:g}" for k, v in ctx.corners.describe(index).items()
+        )
     else:
-        raise ValueError("corner must be nominal or worst")
+        raise ValueError("corner must be nominal, worst or release")
     vcc = float(op.vcc[index])
     i0 = float(to.initial_current[index])
     ido = float(op.dropout_current)
     t_expected = float(to.time_to_dropout[index])
-    clamp_lines = _clamp_lines(path, index)
+    kind = kind_of(design.clamp)
+    clamp_lines = kind.netlist_lines(path, index)
     r_coil = float(op.r_coil[index])
     t_stop = 3 * t_expected if np.isfinite(t_expected) and t_expected > 0 else 1e-2
     # The switch is a current sink that carries the coil's current (plus what the clamp
@@ -90,8 +54,7 @@ def netlist(design: Design, corner: str = "nominal") -> str:
     # in a short t_open, so that the coil carries I_0 as in the engine. ngspice then
     # starts from its own operating point with I_0 in the coil: "uic" node voltages are
     # inconsistent with that current, and ngspice stalls ("timestep too small") or drifts.
-    i_switch = i0 + (r_coil * i0 / float(path.r[index]) if path.kind == "resistor" else 0.0)
-    i_switch += path.diode.i_s if path.diode is not None else 0.0
+    i_switch = i0 + kind.on_current(path, index, r_coil * i0)
     t_open = t_stop * 1e-4
     lines = [
         f"* Clampdown turn-off of {design.name!s} ({label})".replace("\n", " "),
@@ -110,7 +73,7 @@ def netlist(design: Design, corner: str = "nominal") -> str:
         ".options reltol=1e-4 abstol=1e-9 rshunt=1e8",
         f".tran {_g(t_stop / 4000)} {_g(t_stop)} 0 {_g(t_stop / 4000)}",
         ".meas tran peak_switch_voltage MAX v(sw)",
-        f".meas tran time_to_dropout WHEN i(VSENSE)={_g(ido)} FALL=1",
+        *kind.dropout_measure(ido),
         ".end",
     ]
     return "\n".join(lines) + "\n"

@@ -1,4 +1,4 @@
-"""Turn-off of the coil: peak switch voltage, time to drop-out, energy.
+"""Turn-off of the coil through a clamp whose voltage depends on the current alone.
 
 When the switch opens the inductor keeps its current I_0 flowing through the clamp. With
 v_c(i) the voltage the clamp path adds around the coil loop (beyond the coil's own R·i),
@@ -9,6 +9,9 @@ the current to fall to the drop-out current is
 
 evaluated here in u = ln i (t = ∫ L·i / (R·i + v_c(i)) du) with Gauss–Legendre quadrature,
 all corners at once. The switch itself is taken as ideal (it opens in zero time).
+
+Clamp kinds that carry their own state (the RC snubber) give their own closed form instead;
+each kind lives in app/engine/clamps/.
 """
 
 from __future__ import annotations
@@ -17,78 +20,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .design import (
-    Design,
-    DiodeClamp,
-    DiodeResistorClamp,
-    DiodeZenerClamp,
-    NoClamp,
-    ResistorClamp,
-    TvsClamp,
-)
-from .physics import BreakdownModel, DiodeModel
-
 _NODES, _WEIGHTS = np.polynomial.legendre.leggauss(32)
-
-
-@dataclass(frozen=True)
-class ClampPath:
-    """The clamp of one design over a set of corners; arrays have one element per corner."""
-
-    kind: str
-    vcc: np.ndarray
-    diode: DiodeModel | None = None
-    breakdown: BreakdownModel | None = None
-    v_br: np.ndarray | None = None  # zener voltage per corner
-    r: np.ndarray | None = None  # clamp resistor per corner
-    avalanche: float | None = None  # V_(BR)CEO, the least the unclamped node reaches
-
-    def loop_voltage(self, i: np.ndarray) -> np.ndarray:
-        """v_c(i): voltage the clamp path adds around the coil loop; i has shape (N, M)."""
-        vcc = self.vcc[:, None]
-        if self.kind == "diode":
-            return self.diode.voltage(i)
-        if self.kind == "diode_zener":
-            return self.diode.voltage(i) + self.breakdown.voltage(i, self.v_br[:, None])
-        if self.kind == "diode_resistor":
-            return self.diode.voltage(i) + i * self.r[:, None]
-        if self.kind == "resistor":
-            return i * self.r[:, None]
-        if self.kind == "tvs_switch":
-            return self.breakdown.voltage(i) - vcc
-        # Unclamped: the node rises to avalanche, at least V_(BR)CEO.
-        return np.broadcast_to(self.avalanche - vcc, i.shape)
-
-    def device_voltage(self, i: np.ndarray) -> np.ndarray:
-        """Voltage across the clamp device itself (what it dissipates i·v of)."""
-        if self.kind == "tvs_switch":
-            return self.breakdown.voltage(i)
-        if self.kind == "none":
-            return np.broadcast_to(self.avalanche, i.shape)
-        return self.loop_voltage(i)
-
-
-def clamp_path(design: Design, vcc: np.ndarray, values: dict[str, np.ndarray]) -> ClampPath:
-    clamp = design.clamp
-    if isinstance(clamp, NoClamp):
-        return ClampPath("none", vcc, avalanche=design.switch.vceo)
-    if isinstance(clamp, TvsClamp):
-        return ClampPath("tvs_switch", vcc, breakdown=BreakdownModel.from_tvs(clamp.tvs))
-    if isinstance(clamp, ResistorClamp):
-        return ClampPath("resistor", vcc, r=values["r_clamp"])
-    diode = DiodeModel.from_part(clamp.diode)
-    if isinstance(clamp, DiodeClamp):
-        return ClampPath("diode", vcc, diode=diode)
-    if isinstance(clamp, DiodeZenerClamp):
-        return ClampPath(
-            "diode_zener",
-            vcc,
-            diode=diode,
-            breakdown=BreakdownModel.from_zener(clamp.zener, clamp.zener.vz),
-            v_br=values["vz"],
-        )
-    assert isinstance(clamp, DiodeResistorClamp)
-    return ClampPath("diode_resistor", vcc, diode=diode, r=values["r_clamp"])
 
 
 def _log_grid(lower: np.ndarray, upper: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -111,12 +43,22 @@ class TurnOff:
     peak_switch_voltage: np.ndarray  # inf when unclamped
     time_to_dropout: np.ndarray
     energy: np.ndarray  # ½·L·I_0², stored in the coil at turn-off
-    clamp_energy: np.ndarray  # of it, what the clamp device absorbs
+    clamp_energy: np.ndarray  # what the clamp device absorbs per turn-off
     diode_energy: np.ndarray  # of that, what the clamp's rectifier diode absorbs (0 without one)
     charge: np.ndarray  # ∫ i dt through the clamp per turn-off
+    # Energy the turn-off dissipates beyond ½·L·I_0²: the supply's V_cc·Q when the supply is in
+    # the clamp loop (a clamp to ground), or the charge a snubber capacitor held while on.
+    source_energy: np.ndarray | None = None
+    capacitor_voltage: np.ndarray | None = None  # largest |v_C| of a snubber capacitor
+    resistor_energy: np.ndarray | None = None  # what a clamp resistor absorbs per switching cycle
+
+    @property
+    def dissipated_energy(self) -> np.ndarray:
+        """Everything the turn-off turns into heat: ½·L·I_0² plus the source energy."""
+        return self.energy if self.source_energy is None else self.energy + self.source_energy
 
 
-def _energies(path: ClampPath, inductance: float, decay_rate, i0: np.ndarray):
+def _energies(path, inductance: float, decay_rate, i0: np.ndarray):
     """Charge and energies per turn-off. The current decays to 1/1000 of I_0 here (the rest is
     < 1e-6 of the energy); one grid serves all three integrals: dt = L·di / (R·i + v_c(i))."""
     i, w = _log_grid(i0 * 1e-3, i0)
@@ -134,8 +76,8 @@ def _energies(path: ClampPath, inductance: float, decay_rate, i0: np.ndarray):
     return charge, clamp_energy, diode_energy
 
 
-def turn_off(
-    path: ClampPath,
+def integral_turn_off(
+    path,
     inductance: float,
     r_coil: np.ndarray,
     initial_current: np.ndarray,
@@ -143,8 +85,9 @@ def turn_off(
     *,
     energies: bool = True,
 ) -> TurnOff:
-    """The turn-off at every corner; ``energies=False`` skips the charge and energy integrals
-    (left as NaN) when only the spike and the release time are wanted."""
+    """The turn-off at every corner for a clamp with a voltage v_c(i) (``path.loop_voltage``);
+    ``energies=False`` skips the charge and energy integrals (left as NaN) when only the spike
+    and the release time are wanted."""
     i0 = np.asarray(initial_current, dtype=float)
     r = np.asarray(r_coil, dtype=float)[:, None]
 
@@ -164,8 +107,9 @@ def turn_off(
     # A clamp that holds the current up (its voltage below the supply) never lets it decay.
     stuck = (decay_rate(lower[:, None])[:, 0] <= 0) & picked
     t = np.where(stuck, np.inf, np.where(picked, t, 0.0))
-    if path.kind == "none":
+    if path.unclamped:
         peak = np.full_like(i0, np.inf)
+    source = path.vcc * charge if path.supply_in_loop else np.zeros_like(i0)
     return TurnOff(
         initial_current=i0,
         peak_switch_voltage=peak,
@@ -174,4 +118,11 @@ def turn_off(
         clamp_energy=clamp_energy,
         diode_energy=diode_energy,
         charge=charge,
+        source_energy=source,
+        resistor_energy=path.resistor_energy(clamp_energy, diode_energy),
     )
+
+
+def turn_off(path, inductance, r_coil, initial_current, dropout_current, *, energies: bool = True) -> TurnOff:
+    """The turn-off at every corner, as the clamp kind computes it (see app/engine/clamps/)."""
+    return path.turn_off(inductance, r_coil, initial_current, dropout_current, energies=energies)

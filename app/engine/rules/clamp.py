@@ -1,40 +1,39 @@
-"""Clamp rules: the flyback clamp's voltage, current and energy ratings."""
+"""Clamp rules: the flyback clamp's voltage, current, energy and power ratings.
+
+What differs between clamp kinds (which part carries which rating) is asked of the clamp
+kind's module in app/engine/clamps/; the rules here judge it the same way for every kind.
+"""
 
 from __future__ import annotations
 
 import numpy as np
 
-from ..design import TvsClamp
+from ..clamps import Stress
 from .core import Context, Finding, _si, judge, note, rule
 
 
-def _diode(ctx: Context):
-    return getattr(ctx.design.clamp, "diode", None)
+def _judge(ctx: Context, rule_id: str, stress: Stress, suffix: str = "") -> Finding:
+    fraction = getattr(ctx.profile, stress.derate)
+    return judge(
+        ctx,
+        rule_id,
+        stress.value,
+        stress.rating,
+        fraction * np.asarray(stress.rating),
+        stress.unit,
+        keep_below=True,
+        message=lambda i, s: stress.message(i) + suffix,
+    )
 
 
 @rule("clamp.reverse_voltage", "Clamp reverse voltage")
 def clamp_reverse(ctx: Context) -> Finding | None:
-    """Diode across the coil: reverse voltage when on ≈ V_cc,max − V_CE(sat),min against V_RRM.
-    TVS from the switch to ground: it sees V_cc,max when the switch is off, against its minimum
-    breakdown V_BR. Both derated by the profile's voltage fraction."""
-    clamp, op = ctx.design.clamp, ctx.op
-    if isinstance(clamp, TvsClamp):
-        v = op.vcc
-        rating = clamp.tvs.v_breakdown
-        return judge(
-            ctx,
-            "clamp.reverse_voltage",
-            v,
-            rating,
-            ctx.profile.voltage * rating,
-            "V",
-            keep_below=True,
-            message=lambda i, s: f"TVS stands off {_si(v[i], 'V')}, breakdown {_si(rating, 'V')} min",
-        )
-    diode = _diode(ctx)
+    """Diode across the coil: reverse voltage when on ≈ V_cc,max − V_CE(sat),min against V_RRM,
+    derated by the profile's voltage fraction. (A TVS to ground is judged by clamp.standoff.)"""
+    diode = ctx.clamp.diode(ctx.design.clamp)
     if diode is None:
         return None
-    v = op.vcc - ctx.design.switch.vce_sat_low  # lowest V_CE(sat) (vce_sat_min, else 0 V)
+    v = ctx.op.vcc - ctx.design.switch.vce_sat_low  # lowest V_CE(sat) (vce_sat_min, else 0 V)
     return judge(
         ctx,
         "clamp.reverse_voltage",
@@ -47,19 +46,33 @@ def clamp_reverse(ctx: Context) -> Finding | None:
     )
 
 
+@rule("clamp.standoff", "Clamp stand-off")
+def clamp_standoff(ctx: Context) -> Finding | None:
+    """A TVS from the switch to ground sits across the supply whenever the switch is off: V_cc,max
+    must stay below its stand-off voltage V_RWM when given, else below its minimum breakdown
+    V_BR(min); derated by the profile's voltage fraction (a TVS conducts, and heats, once the
+    supply reaches its breakdown)."""
+    standoff = ctx.clamp.standoff(ctx)
+    return None if standoff is None else _judge(ctx, "clamp.standoff", standoff)
+
+
 @rule("clamp.peak_current", "Clamp peak current")
 def clamp_peak(ctx: Context) -> Finding | None:
-    """Peak forward current through the clamp = I_0 (the coil current at turn-off) against the
-    diode's repetitive peak rating, or the TVS's peak pulse current; derated by the profile's
+    """Peak forward current through the clamp = I_0 (the coil current at turn-off) at every
+    turn-off: a repetitive peak. Against the diode's repetitive rating I_FRM (``i_frm``; when
+    absent ``i_peak`` is taken as the repetitive figure), never its surge rating I_FSM, which
+    holds for a single event; for a TVS, its peak pulse current. Derated by the profile's
     current fraction."""
     i0 = ctx.turnoff.initial_current
     clamp = ctx.design.clamp
-    if isinstance(clamp, TvsClamp):
-        rating = clamp.tvs.i_clamp
-    elif _diode(ctx) is not None:
-        rating = _diode(ctx).i_peak
-    else:
+    rated = ctx.clamp.peak_current_rating(clamp)
+    if rated is None:
         return None
+    rating, what = rated
+    diode = ctx.clamp.diode(clamp)
+    surge = ""
+    if diode is not None and diode.i_fsm is not None:
+        surge = f"; the surge rating I_FSM {_si(diode.i_fsm, 'A')} is for a single event and is not used here"
     return judge(
         ctx,
         "clamp.peak_current",
@@ -68,7 +81,7 @@ def clamp_peak(ctx: Context) -> Finding | None:
         ctx.profile.current * rating,
         "A",
         keep_below=True,
-        message=lambda i, s: f"{_si(i0[i], 'A')} at turn-off, rated {_si(rating, 'A')} peak",
+        message=lambda i, s: f"{_si(i0[i], 'A')} at every turn-off, rated {_si(rating, 'A')} {what}{surge}",
     )
 
 
@@ -77,7 +90,7 @@ def clamp_average(ctx: Context) -> Finding | None:
     """Average diode current = Q·f, Q = ∫ i dt per turn-off = ∫ L·i/(R·i + v_c(i)) di,
     f = switchings per hour / 3600; against I_F(AV), derated by the current fraction.
     Needs switching.per_hour."""
-    diode, per_hour = _diode(ctx), ctx.design.switching.per_hour
+    diode, per_hour = ctx.clamp.diode(ctx.design.clamp), ctx.design.switching.per_hour
     if diode is None or per_hour is None:
         return None
     avg = ctx.turnoff.charge * per_hour / 3600.0
@@ -95,43 +108,97 @@ def clamp_average(ctx: Context) -> Finding | None:
 
 @rule("clamp.energy", "Turn-off energy")
 def clamp_energy(ctx: Context) -> Finding:
-    """Energy stored in the coil at turn-off, E = ½·L·I_0². The clamp device takes
-    ∫ v_device(i)·i dt of it; the rest heats the coil's own resistance. With a zener and
-    switching.per_hour the zener's average power E_z·f is judged against its P_max (derated by
-    the power fraction); with a TVS, the peak pulse power V_TVS(I_0)·I_0 against its P_PP."""
-    to, clamp = ctx.turnoff, ctx.design.clamp
+    """Energy stored in the coil at turn-off, E = ½·L·I_0². The turn-off dissipates E plus any
+    energy a source adds meanwhile: the supply's V_cc·Q when the clamp returns the current to
+    ground (a TVS, or the switch itself when unclamped), or the ½·C·V² a snubber capacitor held.
+    The clamp device takes ∫ v_device(i)·i dt of that total, so its share is at most 100 %; the
+    rest heats the coil's own resistance. Unclamped, the clamp is the switch: the energy is
+    avalanche energy in its junction. With a zener and switching.per_hour the zener's average
+    power E_z·f is judged against its P_max (derated by the power fraction); with a TVS, the
+    peak pulse power V_TVS(I_0)·I_0 against its P_PP."""
+    to = ctx.turnoff
     worst = int(np.argmax(to.energy))
-    share = to.clamp_energy[worst] / to.energy[worst] if to.energy[worst] > 0 else 0.0
-    text = f"{_si(to.energy[worst], 'J')} per turn-off, {share:.0%} of it into the clamp"
-    per_hour = ctx.design.switching.per_hour
-    if isinstance(clamp, TvsClamp):
-        pulse = to.peak_switch_voltage * to.initial_current
-        rating = clamp.tvs.p_max
-        return judge(
-            ctx,
-            "clamp.energy",
-            pulse,
-            rating,
-            ctx.profile.power * rating,
-            "W",
-            keep_below=True,
-            message=lambda i, s: (
-                f"peak pulse {_si(pulse[i], 'W')} into the TVS, rated {_si(rating, 'W')} (a 10/1000 µs rating; a longer decay allows less); {text}"
-            ),
+    total = float(to.dissipated_energy[worst])
+    absorbed = float(to.clamp_energy[worst])
+    share = min(1.0, absorbed / total) if total > 0 else 0.0
+    added = total - float(to.energy[worst])
+    text = f"{_si(to.energy[worst], 'J')} stored in the coil per turn-off"
+    if added > 1e-3 * total:
+        source = "the supply" if ctx.path.supply_in_loop else "the snubber capacitor"
+        text += f"; with {_si(added, 'J')} from {source}, {_si(total, 'J')} is dissipated"
+    if ctx.path.unclamped:
+        text += (
+            f"; no clamp: {share:.0%} of it ({_si(absorbed, 'J')}, at least V_(BR)CEO·Q) goes into the switch "
+            "as avalanche energy at every turn-off"
         )
-    if getattr(clamp, "zener", None) is not None and per_hour is not None:
-        # The zener's share: its voltage times the charge (plus its rz loss, counted with it).
-        zener_energy = to.clamp_energy - to.diode_energy
-        power = zener_energy * per_hour / 3600.0
-        rating = clamp.zener.p_max
-        return judge(
-            ctx,
-            "clamp.energy",
-            power,
-            rating,
-            ctx.profile.power * rating,
-            "W",
-            keep_below=True,
-            message=lambda i, s: f"zener averages {_si(power[i], 'W')} at {per_hour:g}/h; {text}",
-        )
+    else:
+        text += f", {share:.0%} of it into the clamp"
+    stress = ctx.clamp.energy_stress(ctx, text)
+    if stress is not None:
+        return _judge(ctx, "clamp.energy", stress)
     return note(ctx, "clamp.energy", float(to.energy[worst]), "J", text, worst)
+
+
+@rule("clamp.resistor_power", "Clamp resistor power")
+def clamp_resistor_power(ctx: Context) -> Finding | None:
+    """Power in a clamp resistor. A resistor across the coil carries V²/R the whole time the coil
+    is on (V = V_cc,max, V_CE(sat) taken as 0: the worst case for this stress; R at its lowest).
+    A clamp resistor also takes its share of every turn-off, E_R = ∫ i²·R dt (for an RC snubber
+    R/(R + R_coil) of the ½·L·I_0² + ½·C·V² the turn-off releases, plus the ½·C·V² lost in
+    charging C at every turn-on), which averages E_R·f with f = switching.per_hour / 3600.
+    Against ``power_rating``, derated by the profile's power fraction. Without per_hour only
+    the continuous part is judged and the finding says so; a diode + resistor or RC clamp
+    (no continuous part) is then a note giving E_R per turn-off, not judged. Without
+    ``power_rating`` a note gives the power, not judged."""
+    hook = ctx.clamp.resistor_power(ctx)
+    if hook is None:
+        return None
+    continuous, rating = hook
+    energy = ctx.turnoff.resistor_energy
+    per_hour = ctx.design.switching.per_hour
+    if per_hour is not None:
+        power = continuous + energy * per_hour / 3600.0
+        how = f"V²/R while on plus {_si(float(np.max(energy)), 'J')} per turn-off at {per_hour:g}/h"
+    else:
+        power = continuous
+        how = "V²/R while on; the turn-off share is not included (no switching.per_hour given)"
+    worst = int(np.argmax(power))
+    if per_hour is None and not np.any(continuous > 0):
+        w = int(np.argmax(energy))
+        return note(
+            ctx,
+            "clamp.resistor_power",
+            float(energy[w]),
+            "J",
+            f"{_si(energy[w], 'J')} into the clamp resistor per switching cycle; its average power is not "
+            "judged: give switching.per_hour",
+            w,
+        )
+    if rating is None:
+        return note(
+            ctx,
+            "clamp.resistor_power",
+            float(power[worst]),
+            "W",
+            f"{_si(power[worst], 'W')} in the clamp resistor ({how}); not judged: give the clamp's power_rating",
+            worst,
+        )
+    return judge(
+        ctx,
+        "clamp.resistor_power",
+        power,
+        rating,
+        ctx.profile.power * rating,
+        "W",
+        keep_below=True,
+        message=lambda i, s: f"{_si(power[i], 'W')} in a {_si(rating, 'W')} resistor ({how})",
+    )
+
+
+@rule("clamp.capacitor_voltage", "Snubber capacitor voltage")
+def clamp_capacitor_voltage(ctx: Context) -> Finding | None:
+    """An RC snubber's capacitor holds the coil voltage while the coil is on and swings the other
+    way at turn-off: the largest |v_C| of the two (from the series RLC response) against
+    ``c_voltage_rating``, derated by the profile's voltage fraction."""
+    stress = ctx.clamp.capacitor_voltage(ctx)
+    return None if stress is None else _judge(ctx, "clamp.capacitor_voltage", stress)

@@ -75,11 +75,18 @@ def release(ctx: Context) -> Finding:
     alternatives = ctx.extras.get("alternatives", [])
     alt = "; ".join(
         f"{a['clamp']} {_si(a['time_to_dropout'], 's')}"
+        + (
+            f" (slowest corner {_si(a['time_to_dropout_worst'], 's')})"
+            if a.get("time_to_dropout_worst")
+            else ""
+        )
         for a in alternatives
         if a["time_to_dropout"] is not None
     )
-    suffix = f" (nominal {_si(nominal, 's')}" + (f"; alternatives at nominal: {alt})" if alt else ")")
-    if ctx.path.kind == "none":
+    suffix = f" (nominal {_si(nominal, 's')}" + (
+        f"; alternatives passing the clamp rules at the worst corner, at nominal: {alt})" if alt else ")"
+    )
+    if ctx.path.unclamped:
         suffix = " — unclamped: an upper bound, with the node held at V_(BR)CEO" + suffix
     if limit is None:
         worst = int(np.argmax(t))

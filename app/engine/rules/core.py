@@ -15,10 +15,11 @@ from typing import Literal
 import numpy as np
 
 from ..circuit import OperatingPoint
+from ..clamps import ClampKind, ClampPath, kind_of
 from ..corners import Corners
 from ..design import Design
 from ..profile import Profile
-from ..transient import ClampPath, TurnOff
+from ..transient import TurnOff
 from ..units import format_si
 
 Status = Literal["violation", "marginal", "ok", "note"]
@@ -70,6 +71,11 @@ class Context:
     turnoff: TurnOff  # every worst-case corner
     turnoff_nominal: TurnOff
     extras: dict = field(default_factory=dict)
+
+    @property
+    def clamp(self) -> ClampKind:
+        """The registry entry of the design's clamp kind (its ratings hooks)."""
+        return kind_of(self.design.clamp)
 
 
 @dataclass(frozen=True)

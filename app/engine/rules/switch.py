@@ -29,11 +29,12 @@ def switch_current(ctx: Context) -> Finding:
 def breakdown(ctx: Context) -> Finding:
     """Peak switch voltage at turn-off, V_cc + v_c(I_0): diode V_cc + V_F(I_0); diode + zener
     V_cc + V_F(I_0) + V_Z(I_0); diode + resistor V_cc + V_F(I_0) + I_0·R_s; resistor
-    V_cc + I_0·R_p; TVS to ground V_TVS(I_0). V_F(i) = n·V_T·ln(1 + i/I_S) + i·R_S (Shockley).
+    V_cc + I_0·R_p; TVS to ground V_TVS(I_0) on the line through (I_T, V_BR(max)) and
+    (I_clamp, V_clamp); RC snubber: the series RLC response (app/engine/clamps/rc.py). V_F(i) = n·V_T·ln(1 + i/I_S) + i·R_S (Shockley).
     Against V_(BR)CEO, derated by the profile's voltage fraction. Unclamped, the node rises to
     avalanche: a violation for a BJT."""
     sw, to = ctx.design.switch, ctx.turnoff
-    if ctx.path.kind == "none":
+    if ctx.path.unclamped:
         worst = int(np.argmax(to.initial_current))
         return Finding(
             "switch.breakdown",
@@ -57,6 +58,7 @@ def breakdown(ctx: Context) -> Finding:
         keep_below=True,
         message=lambda i, s: (
             f"spike to {_si(peak[i], 'V')} from {_si(to.initial_current[i], 'A')}, V_(BR)CEO {_si(sw.vceo, 'V')}"
+            + ctx.clamp.breakdown_note(ctx.design.clamp)
         ),
     )
 

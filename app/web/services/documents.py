@@ -5,6 +5,7 @@ from __future__ import annotations
 import re
 from typing import Any
 
+from app.engine.clamps import part_slots
 from app.engine.design import PART_DETAILS
 from app.signoff.canonical import canonical_json as canonical_json  # re-exported
 from app.signoff.canonical import sha256_hex
@@ -115,9 +116,7 @@ def typed_value(text: str) -> Any:
 SLOT_KINDS = {
     "switch": "transistor",
     "coil": "coil",
-    "clamp.diode": "diode",
-    "clamp.zener": "zener",
-    "clamp.tvs": "tvs",
+    **part_slots(),
 }
 NAMED_KINDS = {"transistor", "coil", "diode"}
 

@@ -10,6 +10,7 @@ from app.signoff.compare import KIND_LABELS
 
 from ..models import Channel, Fixture, Revision, User
 from . import findings_view, labels, review, revisions, trail
+from .documents import SLOT_KINDS
 from .errors import InputProblems, NotFound
 
 CAUTION = (
@@ -27,7 +28,7 @@ def inputs(document: dict) -> list[tuple[str, str]]:
     def walk(prefix: str, node):
         for key, value in node.items():
             path = f"{prefix}.{key}" if prefix else key
-            if path in ("format", "switch", "coil", "clamp.diode", "clamp.zener", "clamp.tvs", "notes"):
+            if path in ("format", "notes") or path in SLOT_KINDS:
                 continue
             if isinstance(value, dict):
                 walk(path, value)

@@ -6,7 +6,7 @@ from dataclasses import dataclass, field
 
 from sqlmodel import Session, select
 
-from app.engine.design import CLAMP_KINDS
+from app.engine.clamps import KINDS as CLAMP_REGISTRY
 
 from ..models import Part
 from .documents import SLOT_KINDS, get_path, part_document, set_path, typed_value
@@ -21,6 +21,7 @@ class FormField:
     unit: str = ""
     widget: str = "text"  # text, textarea, select, part
     options: tuple[str, ...] = ()
+    labels: tuple[str, ...] = ()  # what each option reads as (default: the option itself)
     when: str = ""  # "drive.kind=logic" or "clamp.kind=diode,diode_zener"
     hint: str = ""
 
@@ -32,6 +33,40 @@ class Section:
 
 
 F = FormField
+
+
+def _clamp_fields() -> tuple[FormField, ...]:
+    """The clamp kind selector and each kind's own fields, from the clamp registry: a field
+    shared by several kinds (the diode) is shown once, for all of them."""
+    slots: dict[str, tuple] = {}
+    users: dict[str, list[str]] = {}
+    for kind in CLAMP_REGISTRY.values():
+        for slot in kind.fields:
+            slots.setdefault(slot.name, slot)
+            users.setdefault(slot.name, []).append(kind.kind)
+    out = [
+        F(
+            "clamp.kind",
+            "Clamp",
+            widget="select",
+            options=tuple(CLAMP_REGISTRY),
+            labels=tuple(k.title for k in CLAMP_REGISTRY.values()),
+        )
+    ]
+    for name, slot in slots.items():
+        out.append(
+            F(
+                f"clamp.{name}",
+                slot.label,
+                slot.unit,
+                widget="part" if slot.part else "text",
+                when="clamp.kind=" + ",".join(users[name]),
+                hint=slot.hint,
+            )
+        )
+    return tuple(out)
+
+
 SECTIONS = (
     Section("Design", (F("name", "Design name"), F("notes", "Notes", widget="textarea"))),
     Section(
@@ -98,17 +133,7 @@ SECTIONS = (
     Section(
         "Switch and coil", (F("switch", "NPN transistor", widget="part"), F("coil", "Coil", widget="part"))
     ),
-    Section(
-        "Clamp",
-        (
-            F("clamp.kind", "Clamp", widget="select", options=CLAMP_KINDS),
-            F("clamp.diode", "Diode", widget="part", when="clamp.kind=diode,diode_zener,diode_resistor"),
-            F("clamp.zener", "Zener", widget="part", when="clamp.kind=diode_zener"),
-            F("clamp.tvs", "TVS", widget="part", when="clamp.kind=tvs_switch"),
-            F("clamp.r", "Clamp resistor", "Ω", when="clamp.kind=diode_resistor,resistor"),
-            F("clamp.tolerance", "Clamp resistor tolerance", "%", when="clamp.kind=diode_resistor,resistor"),
-        ),
-    ),
+    Section("Clamp", _clamp_fields()),
     Section(
         "Load on the contacts (optional; the coil part carries the contact ratings)",
         (
