@@ -131,11 +131,24 @@ def _engine_at_netlist_corner(
     return float(peak[index]), float(ctx.turnoff.time_to_dropout[index])
 
 
+class NoRelease(Exception):
+    """The nominal operating point carries no more than the drop-out current: nothing to release."""
+
+
 def simulate(case: Case, workdir: Path) -> Outcome:
     document = _design(case.kind, case.number)
     design_path = workdir / f"{case.id}.json"
     netlist_path = workdir / f"{case.id}.cir"
     design_path.write_text(json.dumps(document), encoding="utf-8")
+    if case.corner == "nominal":
+        # A switch not saturated at nominal is one operating point at h_FE(min); when its coil
+        # current is at or below drop-out the relay never picked up and there is no release.
+        transient = json.loads(_cli("check", str(design_path), "--format", "json"))["transient"]
+        if transient["initial_current"] <= transient["dropout_current"]:
+            raise NoRelease(
+                f"nominal coil current {transient['initial_current']:.4g} A is at or below drop-out "
+                f"{transient['dropout_current']:.4g} A: no release to compare"
+            )
     _cli("netlist", str(design_path), "--corner", case.corner, "-o", str(netlist_path))
     netlist_text = netlist_path.read_text(encoding="utf-8")
     spice_peak, spice_time, output = run_ngspice(netlist_path)
@@ -166,6 +179,8 @@ def relative_difference(engine: float, reference: float) -> float:
 
 
 def _assert_agrees(outcome: Outcome | BaseException) -> None:
+    if isinstance(outcome, NoRelease):
+        pytest.skip(str(outcome))
     if isinstance(outcome, BaseException):
         raise outcome
     where = f"\nnetlist:\n{outcome.netlist}"
