@@ -238,6 +238,9 @@ def test_the_cli_exits_0_1_or_2_and_prints_valid_json(tmp_path_factory, doc):
     assert result.returncode in (0, 1, 2), result.stderr
     assert "Traceback" not in result.stderr
     if result.returncode == 2:
-        assert result.stderr.strip() and result.stdout == ""
+        # Refused: the lines on standard error, and the same problems as JSON on standard output.
+        assert result.stderr.strip()
+        refused = json.loads(result.stdout)
+        assert refused["format"] == "clampdown-errors/1" and refused["errors"]
     else:
         _check_report(json.loads(result.stdout))

@@ -219,9 +219,11 @@ def test_agreement_figures(outcomes):
     """The largest differences seen, printed (pytest -s) for the record; every case is held to
     the 2 % above."""
     done = [o for o in outcomes.values() if not isinstance(o, BaseException)]
-    assert len(done) == len(CASES)
+    no_release = [o for o in outcomes.values() if isinstance(o, NoRelease)]
+    assert len(done) + len(no_release) == len(CASES)
     for kind in CLAMPED_KINDS:
-        mine = [outcomes[c.id] for c in CASES if c.kind == kind]
+        mine = [outcomes[c.id] for c in CASES if c.kind == kind and not isinstance(outcomes[c.id], NoRelease)]
+        assert len(mine) >= 20, f"{kind}: only {len(mine)} circuits with a release to compare"
         peak = max(relative_difference(o.engine_peak, o.spice_peak) for o in mine)
         time = max(relative_difference(o.engine_time, o.spice_time) for o in mine)
         print(f"{kind}: {len(mine)} cases, max difference peak {peak:.3%}, time to drop-out {time:.3%}")
