@@ -139,11 +139,28 @@ def _trail_engine():
                 "Set CLAMPDOWN_DATABASE_URL (or CLAMPDOWN_DATA_DIR) to the database to verify."
             ]
         )
-    settings = _settings()
     engine = make_engine(url.render_as_string(hide_password=False))
-    use_key(engine, settings.trail_key)
-    migrate(engine, settings.trail_key)
+    key = _existing_trail_key(Settings())
+    use_key(engine, key)
+    migrate(engine, key)
     return engine
+
+
+def _existing_trail_key(settings) -> str:
+    """The trail key from CLAMPDOWN_TRAIL_KEY or the data directory's trail_key file. Never a new
+    one: a key made up here would only make every entry fail its MAC, hiding the real mistake
+    (the wrong data directory, or a key kept elsewhere)."""
+    if settings.trail_key:
+        return settings.trail_key
+    path = settings.data_dir.expanduser().resolve() / "trail_key"
+    if not path.is_file():
+        raise InputError(
+            [
+                f"trail key: none in CLAMPDOWN_TRAIL_KEY and no file {path}; nothing was checked. "
+                "Point CLAMPDOWN_DATA_DIR at the server's data directory or set CLAMPDOWN_TRAIL_KEY."
+            ]
+        )
+    return path.read_text(encoding="utf-8").strip()
 
 
 def _trail_verify(args: argparse.Namespace) -> int:

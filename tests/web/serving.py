@@ -32,11 +32,15 @@ class ServerProcess:
         self.process: subprocess.Popen | None = None
 
     def start(self) -> None:
+        from .conftest import TRAIL_KEY
+
         env = {
             **os.environ,
             "CLAMPDOWN_DATABASE_URL": self.database_url,
             "CLAMPDOWN_DATA_DIR": str(self.data_dir),
             "CLAMPDOWN_SECRET_KEY": "test-key",
+            # The same trail key as the test's app, so entries from both verify as one chain.
+            "CLAMPDOWN_TRAIL_KEY": TRAIL_KEY,
         }
         self.process = subprocess.Popen(
             [sys.executable, "-m", "uvicorn", "app.web.asgi:app", "--port", str(self.port)]

@@ -161,6 +161,10 @@ def test_trail_verify_names_the_database_it_checked(tmp_path):
     )
     assert built.returncode == 0, built.stderr
     url = f"sqlite:///{tmp_path / 'demo' / 'demo.sqlite3'}"
-    result = _verify_with(tmp_path, url)
+    # Another data directory holds no trail key: refused, and no key is made up there.
+    result = _verify_with(tmp_path / "elsewhere", url)
+    assert result.returncode == 2 and "trail key" in result.stderr, result.stdout + result.stderr
+    assert not (tmp_path / "elsewhere" / "trail_key").exists()
+    result = _verify_with(tmp_path / "demo", url)
     assert result.returncode == 0, result.stdout + result.stderr
     assert f"database: {url}" in result.stdout and "trail intact" in result.stdout

@@ -50,7 +50,7 @@ def test_every_status_has_the_one_shape(raising, reviewer, designer):
     [item] = _shape(anonymous.get("/api/v1/parts"), 401)
     assert item["type"] == "sign_in_required"
     [item] = _shape(reviewer.post("/api/v1/parts", json={"kind": "diode", "name": "x", "params": DIODE}), 403)
-    assert "this needs the role designer or admin" in item["msg"] and item["loc"] == ["role"]
+    assert "you need the role designer or admin" in item["msg"] and item["loc"] == ["role"]
     no_token = sign_in(raising, "dana")
     del no_token.headers["X-CSRF-Token"]
     [item] = _shape(no_token.post("/api/v1/fixtures", json={"name": "x"}), 403)
@@ -224,8 +224,8 @@ def test_a_report_holding_an_infinity_saves_and_serves(world, designer, monkeypa
 
     real = reports.evaluate
 
-    def with_infinity(design):
-        report = real(design)
+    def with_infinity(design, *profile):
+        report = real(design, *profile)
         report["findings"][0]["value"] = float("inf")
         return report
 
@@ -242,7 +242,7 @@ def test_a_report_holding_an_infinity_saves_and_serves(world, designer, monkeypa
 def test_a_design_the_engine_refuses_is_a_4xx_naming_the_field(world, designer, monkeypatch):
     from app.web.services import reports
 
-    def refuse(design):
+    def refuse(design, *profile):
         raise DesignError(["coil.inductance: gives no finite turn-off for this clamp"])
 
     monkeypatch.setattr(reports, "evaluate", refuse)

@@ -28,8 +28,13 @@ def test_limits_carry_their_direction_and_a_margin(world, reviewer):
     assert "≥ 19.8 V" in pickup and "≥ 18 V" in pickup
     # margin (21.1 − 19.8)/19.8 ≈ +6.7 % inside the limit (values as the report rounds them)
     assert re.search(r'class="num margin">\+6\.\d %', pickup)
-    current = _row(page, "switch.current")  # an upper bound: 195 mA against ≤ 800 mA
-    assert "≤ 800 mA" in current and "+75.6 %" in current
+    # An upper bound: the margin is (limit − value)/limit, from the report's own numbers.
+    rid = revision_ids(world, K1)[2]
+    report = reviewer.get(f"/api/v1/revisions/{rid}/report").json()
+    found = next(f for f in report["findings"] if f["rule"] == "switch.current")
+    margin = (found["limit"] - found["value"]) / found["limit"] * 100
+    current = _row(page, "switch.current")
+    assert "≤ " in current and f"+{margin:.1f} %" in current
     assert "inside (+) or past (−) the derated limit" in page
 
 
@@ -42,7 +47,17 @@ def test_sorting_by_margin_puts_the_tightest_finding_first(world, reviewer):
         for m in re.findall(r'class="num margin">([+-]?\d+\.\d) %', page.split('class="findings"', 1)[1])
     ]
     assert margins == sorted(margins) and len(margins) >= 10
-    assert order[: len(margins)][0] == "drive.saturation"  # +0.3 %: the tightest in rev A
+    # The tightest finding of rev A comes first: the one with the smallest margin in its report.
+    report = reviewer.get(f"/api/v1/revisions/{rev_a}/report").json()
+
+    def margin_of(f):
+        if f["limit"] is None or f["value"] is None or f.get("bound") is None:
+            return None
+        inside = f["limit"] - f["value"] if f["bound"] == "upper" else f["value"] - f["limit"]
+        return inside / f["limit"]
+
+    judged = [(margin_of(f), f["rule"]) for f in report["findings"] if margin_of(f) is not None]
+    assert order[0] == min(judged)[1]
     assert order[-1] in ("switch.breakdown", "coil.release", "clamp.energy")  # no margin: last
     assert "<strong>smallest margin first</strong>" in page
     review = reviewer.get(f"/revisions/{rev_a}/review", params={"sort": "margin"}).text

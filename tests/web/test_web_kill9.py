@@ -22,7 +22,7 @@ from sqlmodel import Session, select
 from app.web.models import TrailEntry
 from app.web.services import users
 
-from .conftest import K1, PASSWORD, revision_ids
+from .conftest import K1, PASSWORD, TRAIL_KEY, revision_ids
 from .serving import ROOT, ServerProcess, signed_in_client
 
 CYCLES = 3
@@ -90,7 +90,12 @@ def test_every_acknowledged_action_survives_kill_minus_9(world, kai, database_ur
     print(f"kill -9: {CYCLES} cycles, {len(acked)} actions acknowledged, {len(lost)} lost")
     assert len(acked) >= CYCLES * len(ACTORS)  # actions really ran in every cycle
     assert lost == []
-    env = {**os.environ, "CLAMPDOWN_DATABASE_URL": database_url, "CLAMPDOWN_DATA_DIR": str(tmp_path)}
+    env = {
+        **os.environ,
+        "CLAMPDOWN_DATABASE_URL": database_url,
+        "CLAMPDOWN_DATA_DIR": str(tmp_path),
+        "CLAMPDOWN_TRAIL_KEY": TRAIL_KEY,
+    }
     verify = subprocess.run(
         [sys.executable, "-c", "import sys; from app.cli import main; sys.exit(main())", "trail", "verify"],
         cwd=ROOT,

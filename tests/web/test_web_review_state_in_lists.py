@@ -7,13 +7,17 @@ K5 = "K5 door-heat warning lamp relay"
 
 
 def _row(page: str, name: str) -> str:
-    return page.split("<h1>", 1)[1].split(name, 1)[1].split("</tr>", 1)[0]
+    """The whole table row (after the page's heading, so not a queue's) that names ``name``."""
+    body = page.split("<h1>", 1)[1]
+    return next(row for row in body.split("<tr") if name in row).split("</tr>", 1)[0]
 
 
 def test_home_and_fixture_pages_show_review_state_beside_the_verdict(world, reviewer):
     home = reviewer.get("/").text
     k1 = _row(home, K1)
-    assert "In review" in k1 and "Within limits" in k1
+    # K1 rev C is past derating under engine 2.0.0 (the demo's K1 now switches a mains load
+    # through its contacts); the verdict and the review state stand side by side.
+    assert "In review" in k1 and "Past derating" in k1
     assert "approved baseline" in k1 and ">rev B</a>" in k1  # rev C is newest; B is the baseline
     k5 = _row(home, K5)
     assert "Past derating" in k5 and "Signed off" in k5 and "approved baseline" in k5

@@ -372,6 +372,7 @@ def test_a_pdf_of_a_revision_with_many_comments_is_bounded(world, reviewer, monk
     monkeypatch.setattr(
         record, "render_pdf", lambda html, base_url: printed.setdefault("html", html) and b"%PDF"
     )
+    monkeypatch.setattr(record, "pdf_available", lambda: True)  # as where WeasyPrint is installed
     response = reviewer.get(f"/revisions/{rev}/record.pdf")
     assert response.status_code == 200 and response.content == b"%PDF"
     html = printed["html"]
