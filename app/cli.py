@@ -52,8 +52,8 @@ def _split_problem(line: str) -> tuple[str, str]:
     return "", line
 
 
-def load_design_file(path: str):
-    """Read and validate a design file, or raise InputError naming every problem."""
+def _read_json(path: str, what: str):
+    """Read one JSON file ("-": standard input), or raise InputError saying what is wrong with it."""
     try:
         text = sys.stdin.read() if path == "-" else Path(path).read_text(encoding="utf-8")
     except FileNotFoundError:
@@ -61,17 +61,22 @@ def load_design_file(path: str):
     except (OSError, UnicodeDecodeError) as exc:
         raise InputError.about(path, [("", f"cannot be read ({exc.__class__.__name__}: {exc})")]) from None
     try:
-        document = json.loads(text)
+        return json.loads(text)
     except json.JSONDecodeError as exc:
         raise InputError.about(
             path, [("", f"not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})")]
         ) from None
     except RecursionError:
-        raise InputError.about(path, [("", "the JSON is nested too deep to be a design file")]) from None
+        raise InputError.about(path, [("", f"the JSON is nested too deep to be {what}")]) from None
     except ValueError:  # an integer longer than Python converts (thousands of digits)
         raise InputError.about(
             path, [("", "a number in the file has too many digits to be a value")]
         ) from None
+
+
+def load_design_file(path: str):
+    """Read and validate a design file, or raise InputError naming every problem."""
+    document = _read_json(path, "a design file")
     try:
         return parse_design(document)
     except DesignError as exc:
@@ -84,18 +89,7 @@ def load_profile_file(path: str):
     """Read a derating profile file (JSON, clampdown-profile/1), or raise InputError naming each bad field."""
     from .engine.profile import ProfileError, profile_from_dict
 
-    try:
-        text = Path(path).read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InputError.about(path, [("", "no such file")]) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError.about(path, [("", f"cannot be read ({exc.__class__.__name__}: {exc})")]) from None
-    try:
-        values = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise InputError.about(
-            path, [("", f"not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})")]
-        ) from None
+    values = _read_json(path, "a profile file")
     try:
         return profile_from_dict(values)
     except ProfileError as exc:
