@@ -103,6 +103,10 @@ class ClampKind:
     fields: ClassVar[tuple[FormSlot, ...]] = ()
     unclamped: ClassVar[bool] = False
 
+    def problems(self, design: Design) -> list[str]:
+        """Whatever makes this clamp unusable with this design's switch (field path first)."""
+        return []
+
     # ---------------------------------------------------------------- corners
 
     def factors(self, clamp: Any) -> list[tuple[str, float, float, str]]:
