@@ -33,7 +33,8 @@ def clamp_reverse(ctx: Context) -> Finding | None:
     diode = ctx.clamp.diode(ctx.design.clamp)
     if diode is None:
         return None
-    v = ctx.op.vcc - ctx.design.switch.vce_sat_low  # lowest V_CE(sat) (vce_sat_min, else 0 V)
+    # The lowest on-voltage of the switch (vce_sat_min, else 0 V; 0 V for a MOSFET).
+    v = ctx.op.vcc - ctx.switch.on_voltage_low(ctx.design.switch)
     return judge(
         ctx,
         "clamp.reverse_voltage",
@@ -128,7 +129,7 @@ def clamp_energy(ctx: Context) -> Finding:
         text += f"; with {_si(added, 'J')} from {source}, {_si(total, 'J')} is dissipated"
     if ctx.path.unclamped:
         text += (
-            f"; no clamp: {share:.0%} of it ({_si(absorbed, 'J')}, at least V_(BR)CEO·Q) goes into the switch "
+            f"; no clamp: {share:.0%} of it ({_si(absorbed, 'J')}, at least {ctx.switch.breakdown_symbol}·Q) goes into the switch "
             "as avalanche energy at every turn-off"
         )
     else:

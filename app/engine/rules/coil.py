@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 
 from .core import Context, Finding, _si, judge, note, rule
@@ -15,7 +17,9 @@ def pickup(ctx: Context) -> Finding:
     the ambient plus self-heating at the highest supply (V_cc,max − V_CE(sat),min): from the coil's
     R_th, else from its temperature rise ΔT at nominal voltage (R_th = ΔT·R_hot/V_nom²), else from
     the derating profile's assumed rise (from memory), which the finding then says.
-    Limit: must-operate × (1 + pick-up margin)."""
+    Limit: must-operate × (1 + pick-up margin). A MOSFET: V_coil = V_cc·R_coil/(R_coil + R_DS(on)(T_J)),
+    0 V where V_GS stays below V_GS(th),max (it need not conduct); where V_GS is below the gate
+    voltage R_DS(on) is guaranteed at, the result is at best marginal (R_DS(on) is not known there)."""
     op = ctx.op
     rating = op.must_operate_hot
     if op.coil_heating == "rth":
@@ -29,7 +33,7 @@ def pickup(ctx: Context) -> Finding:
         )
     else:
         heating = "no self-heating"
-    return judge(
+    finding = judge(
         ctx,
         "coil.pickup",
         op.coil_voltage_hot,
@@ -39,8 +43,32 @@ def pickup(ctx: Context) -> Finding:
         keep_below=False,
         message=lambda i, s: (
             f"{_si(op.coil_voltage_hot[i], 'V')} on the coil at {op.coil_temp_hot[i]:.0f} °C, must-operate {_si(rating[i], 'V')} there; {heating}"
+            + _gate_text(ctx, i)
         ),
         hot_coil=True,
+    )
+    guaranteed = op.switch.get("guaranteed")
+    if guaranteed is not None and finding.status == "ok" and not np.all(guaranteed):
+        # A MOSFET below the gate voltage its R_DS(on) is guaranteed at: the coil voltage above
+        # assumes the rated R_DS(on), which this gate voltage does not promise.
+        i = int(np.argmin(guaranteed))
+        return replace(
+            finding,
+            status="marginal",
+            message=finding.message
+            + f"; at {_si(op.switch['vgs_on'][i], 'V')} on the gate R_DS(on) is not guaranteed "
+            f"(rated at {_si(ctx.design.switch.rds_on_vgs, 'V')}): this coil voltage assumes it",
+        )
+    return finding
+
+
+def _gate_text(ctx: Context, i: int) -> str:
+    conducts = ctx.op.switch.get("conducts")
+    if conducts is None or conducts[i]:
+        return ""
+    return (
+        f"; V_GS {_si(ctx.op.switch['vgs_on'][i], 'V')} is below V_GS(th),max "
+        f"{_si(ctx.op.switch['vth_max_cold'][i], 'V')} there: the FET need not conduct at all"
     )
 
 
@@ -87,7 +115,7 @@ def release(ctx: Context) -> Finding:
         f"; alternatives passing the clamp rules at the worst corner, at nominal: {alt})" if alt else ")"
     )
     if ctx.path.unclamped:
-        suffix = " — unclamped: an upper bound, with the node held at V_(BR)CEO" + suffix
+        suffix = f" — unclamped: an upper bound, with the node held at {ctx.switch.breakdown_symbol}" + suffix
     if limit is None:
         worst = int(np.argmax(t))
         return note(

@@ -8,13 +8,15 @@ from ..design import DividerDrive, LogicDrive
 from .core import Context, Finding, Status, _si, judge, note, rule, worse
 
 
-@rule("drive.saturation", "Saturation overdrive")
+@rule("drive.saturation", "Saturation overdrive", kinds=("npn", "darlington_array"))
 def saturation(ctx: Context) -> Finding:
     """overdrive = I_B / (I_C / h_FE(min)), with
     I_B = (V_th,on − V_BE(sat)) / (R_th + R_b) − V_BE(sat) / R_be and
     I_C = (V_cc − V_CE(sat)) / R_coil(T) (plus V_cc/R_p through a resistor clamp).
     Below 1 the switch is not saturated; the profile asks for ≥ 2 (common practice: forced
-    β = I_C/I_B at or below h_FE(min)/2; V_CE(sat) is specified at a forced β of 10)."""
+    β = I_C/I_B at or below h_FE(min)/2; V_CE(sat) is specified at a forced β of 10).
+    A Darlington array channel: R_b includes the built-in input resistor and V_BE(sat) is the
+    input's V_I(on) (two base-emitter drops)."""
     op = ctx.op
 
     def message(i: int, status: Status) -> str:
@@ -42,17 +44,21 @@ def saturation(ctx: Context) -> Finding:
     )
 
 
-@rule("drive.cutoff", "Cutoff when off")
+@rule("drive.cutoff", "Cutoff when off", kinds=("npn", "darlington_array"))
 def cutoff(ctx: Context) -> Finding:
     """V_BE,off = V_th,off · R_be / (R_th + R_b + R_be) (V_th,off with no pull-down) against the
     turn-on voltage at the hottest junction, V_BE(on)(T_J) = V_BE(on)(25 °C) − 2 mV/K·(T_J − 25)
-    (about −2 mV/K, common practice). Limit: the profile's cutoff fraction of it."""
+    (about −2 mV/K, common practice). Limit: the profile's cutoff fraction of it. A Darlington
+    array channel: its input's onset (vbe_on_min, else two drops of 0.55 V, from memory), falling
+    2 × 2 mV/K, with the built-in input resistor in series with R_b."""
     op = ctx.op
 
     def message(i: int, status: Status) -> str:
         text = f"off-state base at {_si(op.vbe_off[i], 'V')}, turn-on {_si(op.vbe_on_hot[i], 'V')} at T_J {op.junction_temp[i]:.0f} °C"
         if status != "ok" and np.isinf(op.r_pulldown[i]):
             text += "; a base pull-down would hold it off"
+        if ctx.design.switch.kind == "darlington_array" and ctx.design.switch.vbe_on_min is None:
+            text += "; the input's onset ASSUMED 1.1 V at 25 °C (two drops of 0.55 V, from memory): give switch.vbe_on_min"
         return text
 
     return judge(
@@ -67,7 +73,7 @@ def cutoff(ctx: Context) -> Finding:
     )
 
 
-@rule("drive.source_current", "Drive source current")
+@rule("drive.source_current", "Drive source current", kinds=("npn", "darlington_array"))
 def source_current(ctx: Context) -> Finding:
     """I_source = (V_th,on − V_BE,low) / (R_th + R_b) against the output's i_max (derated by
     the profile's current fraction). V_BE,low is the lowest base voltage a conducting base can
@@ -102,7 +108,7 @@ def source_current(ctx: Context) -> Finding:
     )
 
 
-@rule("drive.reverse_base", "Reverse base-emitter voltage")
+@rule("drive.reverse_base", "Reverse base-emitter voltage", kinds=("npn",))
 def reverse_base(ctx: Context) -> Finding:
     """|V_BE| when the drive goes below 0 V: −V_BE,off against V_(BR)EBO (derated by the profile's
     voltage fraction). V_(BR)EBO is typically 5–6 V (common practice)."""

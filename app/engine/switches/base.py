@@ -35,6 +35,9 @@ class SwitchKind:
     fields: ClassVar[tuple[FormSlot, ...]] = ()
     breakdown_symbol: ClassVar[str] = "V_(BR)CEO"
     current_symbol: ClassVar[str] = "I_C"
+    # Whether the netlist models the switch's own breakdown, so an unclamped turn-off can be
+    # simulated (a MOSFET's avalanche through its body diode).
+    simulates_avalanche: ClassVar[bool] = False
     unclamped_verdict: ClassVar[str] = (
         "forces the collector into avalanche above V_(BR)CEO, stressing the junction at every turn-off"
     )

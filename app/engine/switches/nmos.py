@@ -53,6 +53,12 @@ def junction_with_rds(fet: NmosFet, current, ambient):
     return tj, rds, power
 
 
+def op_unclamped(design) -> bool:
+    from ..clamps import kind_of
+
+    return kind_of(design.clamp).is_unclamped(design.clamp)
+
+
 class NmosLowSide(SwitchKind):
     kind = "nmos"
     title = "N-channel MOSFET"
@@ -61,6 +67,7 @@ class NmosLowSide(SwitchKind):
     resistors = "gate"
     fields = (FormSlot("switch", "N-channel MOSFET", part="nmos"),)
     breakdown_symbol = "V_(BR)DSS"
+    simulates_avalanche = True
     current_symbol = "I_D"
     unclamped_verdict = "drives the drain into avalanche at V_(BR)DSS or above at every turn-off"
 
@@ -200,6 +207,6 @@ class NmosLowSide(SwitchKind):
             f"VGATE g 0 PWL(0 1 {g(t_open)} 0)",
             f"BFET sw 0 I=v(g)*v(sw)/{g(r_on)}",
         ]
-        if design.clamp.kind == "none":
+        if op_unclamped(design):
             lines += [f".model dbody D(BV={g(design.switch.vds_max)} IBV=1e-3)", "DBODY 0 sw dbody"]
         return lines
