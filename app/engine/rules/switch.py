@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .core import RULES, Context, Finding, _si, judge, rule, worse
+from .core import RULES, Context, Finding, _n, _si, judge, rule, worse
 
 
 @rule("switch.current", "Switch current")
@@ -22,7 +22,15 @@ def switch_current(ctx: Context) -> Finding:
         "A",
         keep_below=True,
         message=lambda i, s: f"{_si(op.collector_current[i], 'A')} against {_si(sw.ic_max, 'A')} rated",
+        worked=lambda i: (
+            f"I_C = (V_cc,max − V_CE(sat),min)/{_load_name(op, i)} = ({_n(op.vcc[i], 'V')} − "
+            f"{_n(sw.vce_sat_low, 'V')})/{_n(op.load_resistance[i], 'Ω')} = {_n(op.collector_current[i], 'A')}"
+        ),
     )
+
+
+def _load_name(op, i: int) -> str:
+    return "(R_coil ∥ R_p)" if op.load_resistance[i] < op.r_coil[i] else "R_coil"
 
 
 @rule("switch.breakdown", "Turn-off spike against breakdown")
@@ -46,6 +54,8 @@ def breakdown(ctx: Context) -> Finding:
             sw.vceo,
             ctx.corners.describe(worst),
             f"no clamp: {_si(to.initial_current[worst], 'A')} forces the collector into avalanche above V_(BR)CEO, stressing the junction at every turn-off",
+            worked=f"I_0 = {_n(to.initial_current[worst], 'A')} with no clamp: L·di/dt drives the node past "
+            f"V_(BR)CEO {_n(sw.vceo, 'V')} into avalanche; no finite clamp voltage",
         )
     peak = to.peak_switch_voltage
     return judge(
@@ -60,7 +70,16 @@ def breakdown(ctx: Context) -> Finding:
             f"spike to {_si(peak[i], 'V')} from {_si(to.initial_current[i], 'A')}, V_(BR)CEO {_si(sw.vceo, 'V')}"
             + ctx.clamp.breakdown_note(ctx.design.clamp)
         ),
+        worked=lambda i: _worked_spike(ctx, i),
     )
+
+
+def _worked_spike(ctx: Context, i: int) -> str:
+    to, path = ctx.turnoff, ctx.path
+    i0, peak, vcc = to.initial_current[i], to.peak_switch_voltage[i], path.vcc[i]
+    if path.supply_in_loop:  # the clamp returns to ground: the switch sees the clamp's own voltage
+        return f"V_peak = v_clamp(I_0 = {_n(i0, 'A')}) = {_n(peak, 'V')}"
+    return f"V_peak = V_cc + v_c(I_0) = {_n(vcc, 'V')} + v_c({_n(i0, 'A')}) {_n(peak - vcc, 'V')} = {_n(peak, 'V')}"
 
 
 def _power_message(op, i: int) -> str:
@@ -94,7 +113,36 @@ def switch_power(ctx: Context) -> Finding:
         "W",
         keep_below=True,
         message=lambda i, s: _power_message(op, i),
+        worked=lambda i: _worked_power(ctx, i),
     )
+
+
+def _worked_power(ctx: Context, i: int) -> str:
+    """P with the worst corner's numbers, and the power allowed at its ambient."""
+    op, sw = ctx.op, ctx.design.switch
+    base = f"{_n(op.base_current[i], 'A')}·{_n(sw.vbe_sat, 'V')}"
+    on_power = op.dissipation[i] - op.base_current[i] * sw.vbe_sat
+    if op.linear_bound[i]:
+        power = (
+            f"P = V_cc²/(4·R_load) + I_B·V_BE(sat) = ({_n(op.vcc[i], 'V')})²/(4·{_n(op.load_resistance[i], 'Ω')})"
+            f" + {base} = {_n(op.dissipation[i], 'W')}"
+        )
+    elif op.overdrive[i] >= 1:
+        i_c = op.required_base_current[i] * sw.hfe_min
+        power = (
+            f"P = I_C·V_CE(sat) + I_B·V_BE(sat) = {_n(i_c, 'A')}·{_n(sw.vce_sat, 'V')} + {base} = "
+            f"{_n(op.dissipation[i], 'W')}"
+        )
+    else:
+        power = (
+            f"P = I_C·V_CE + I_B·V_BE(sat) = {_n(on_power, 'W')} (not saturated: I_C at the edge of the "
+            f"gain range, V_CE = V_cc − I_C·R_load) + {base} = {_n(op.dissipation[i], 'W')}"
+        )
+    allowed = (
+        f"allowed min(P_max, (T_J,max − T_A)/R_θJA) = min({_n(sw.p_max, 'W')}, ({_n(sw.tj_max, '°C')} − "
+        f"{_n(op.ambient[i], '°C')})/{_n(sw.rth_ja, 'K/W')}) = {_n(op.power_allowed[i], 'W')}"
+    )
+    return f"{allowed}; {power}"
 
 
 @rule("switch.junction_temp", "Junction temperature")
@@ -112,6 +160,10 @@ def junction_temp(ctx: Context) -> Finding:
         "°C",
         keep_below=True,
         message=lambda i, s: f"T_J {op.junction_temp[i]:.1f} °C at T_A {op.ambient[i]:.0f} °C",
+        worked=lambda i: (
+            f"T_J = T_A + P·R_θJA = {_n(op.ambient[i], '°C')} + {_n(op.dissipation[i], 'W')}·"
+            f"{_n(sw.rth_ja, 'K/W')} = {_n(op.junction_temp[i], '°C')}"
+        ),
     )
 
 
@@ -144,6 +196,26 @@ def linear_region(ctx: Context) -> Finding | None:
         )
         return text + (advice if s != "ok" else "")
 
+    def worked_power(i: int) -> str:
+        base = op.divider["base_on"][i]
+        if op.sweep_bound[i]:
+            head = (
+                f"P = V_cc²/(4·R_load) + I_B,on·V_BE(sat) = ({_n(op.vcc[i], 'V')})²/"
+                f"(4·{_n(op.load_resistance[i], 'Ω')}) + {_n(base, 'A')}·{_n(sw.vbe_sat, 'V')}"
+            )
+        else:
+            head = (
+                f"P = I·(V_cc − I·R_load) at the edge of the gain range + I_B,on·V_BE(sat), with "
+                f"I_B,on = {_n(base, 'A')}"
+            )
+        return f"{head} = {_n(power[i], 'W')}"
+
+    def worked_junction(i: int) -> str:
+        return (
+            f"{worked_power(i)}; T_J = T_A + P·R_θJA = {_n(op.ambient[i], '°C')} + {_n(power[i], 'W')}·"
+            f"{_n(sw.rth_ja, 'K/W')} = {_n(tj[i], '°C')}"
+        )
+
     by_power = judge(
         ctx,
         "switch.linear_region",
@@ -153,6 +225,7 @@ def linear_region(ctx: Context) -> Finding | None:
         "W",
         keep_below=True,
         message=message,
+        worked=worked_power,
     )
     by_junction = judge(
         ctx,
@@ -163,5 +236,6 @@ def linear_region(ctx: Context) -> Finding | None:
         "°C",
         keep_below=True,
         message=message,
+        worked=worked_junction,
     )
     return worse(by_power, by_junction)
