@@ -258,7 +258,7 @@ def bipolar_operating_point(
     else:
         collector_current = v_on_stress / r_load
         coil_voltage = v_on_stress
-        coil_current = v_on / r_coil
+        coil_current = v_on_stress / r_coil  # the most current to turn off: V_CE(sat) at its lowest
         # With the gain anywhere in its range a switch that is not saturated can sit at
         # V_CE = V_cc/2: P = V_cc²/(4·R_load), unless h_FE(max) keeps the current below that.
         on_power, _, inside = peak_dissipation(vcc, r_load, i_low, i_high, sw.vce_sat)

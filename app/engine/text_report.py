@@ -35,6 +35,8 @@ def render_table(report: dict) -> str:
     for f in report["findings"]:
         if f["status"] in ("violation", "marginal"):
             out.append(f"{_LABEL[f['status']]:>9}  {f['rule']}: {f['message']}")
+            if f.get("worked"):
+                out.append(f"{'':>9}  worked: {f['worked']}")
     nom, tr = report["nominal"], report["transient"]
     out.append("")
     out.append(

@@ -81,3 +81,20 @@ def test_the_review_page_has_everything_the_revision_page_has(world, reviewer):
         assert heading in review, heading
     assert review.count('<details class="formula">') >= 10
     assert "accept with a waiver" in review or "comment on this finding" in review  # its own tools too
+
+
+def test_each_finding_shows_its_formula_with_the_worst_corners_numbers(world, reviewer):
+    """The worked formula (the rule's formula with the worst corner's numbers) is on the revision
+    page, the review page and the printed record, as the report gives it."""
+    from markupsafe import escape
+
+    rid = revision_ids(world, K1)[2]
+    report = reviewer.get(f"/api/v1/revisions/{rid}/report").json()
+    saturation = next(f for f in report["findings"] if f["rule"] == "drive.saturation")
+    assert saturation["worked"].startswith("I_B = (")
+    for path in (f"/revisions/{rid}", f"/revisions/{rid}/review"):
+        row = _row(reviewer.get(path).text, "drive.saturation")
+        assert "Worked at the worst corner:" in row and str(escape(saturation["worked"])) in row
+    record = reviewer.get(f"/revisions/{rid}/record").text
+    for f in report["findings"]:
+        assert str(escape(f["worked"])) in record, f["rule"]

@@ -60,6 +60,7 @@ class Stress:
     derate: str
     unit: str
     message: Callable[[int], str]
+    worked: Callable[[int], str] | None = None  # the formula with a corner's numbers
 
 
 @dataclass(frozen=True)

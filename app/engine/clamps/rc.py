@@ -236,4 +236,9 @@ class RcAcrossCoil(ClampKind):
             lambda i: (
                 f"snubber capacitor sees up to {format_si(float(v[i]), 'V')}, rated {format_si(rating, 'V')}"
             ),
+            lambda i: (
+                f"|v_C| = max(R_coil·I_0 = {format_si(float(ctx.op.r_coil[i]), 'Ω', 4)}·"
+                f"{format_si(float(ctx.turnoff.initial_current[i]), 'A', 4)}, the series RLC swing) = "
+                f"{format_si(float(v[i]), 'V', 4)}"
+            ),
         )

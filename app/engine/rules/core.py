@@ -41,6 +41,8 @@ class Finding:
     # "upper": the value must stay at or below the limit (a stress); "lower": at or above it (a
     # margin); None for notes and findings with no limit.
     bound: str | None = None
+    # The rule's formula with the worst corner's numbers substituted, as checked on paper.
+    worked: str | None = None
 
     def as_dict(self) -> dict:
         def num(x):
@@ -57,6 +59,7 @@ class Finding:
             "corner": self.corner,
             "message": self.message,
             "bound": self.bound,
+            "worked": self.worked,
         }
 
 
@@ -142,6 +145,7 @@ def judge(
     keep_below: bool,
     message: Callable[[int, Status], str],
     hot_coil: bool = False,
+    worked: Callable[[int], str] | None = None,
 ) -> Finding:
     """Pick the worst corner and its status.
 
@@ -149,6 +153,7 @@ def judge(
     it (a margin). Beyond the absolute rating is a violation, beyond the derated limit marginal.
     The worst corner is the one furthest past the rating if any is, else past the limit.
     ``hot_coil``: the rule uses the self-heated coil (the corner then records that coil).
+    ``worked``: the formula with the numbers of a corner substituted, ending in the value.
     """
     n = ctx.corners.size
     value = np.asarray(value, dtype=float)
@@ -188,6 +193,7 @@ def judge(
         corner=corner_used(ctx, worst, hot_coil=hot_coil),
         message=message(worst, status),
         bound="upper" if keep_below else "lower",
+        worked=worked(worst) if worked is not None else None,
     )
 
 
@@ -200,11 +206,31 @@ def worse(*findings: Finding | None) -> Finding | None:
 
 
 def note(
-    ctx: Context, rule_id: str, value: float | None, unit: str, message: str, index: int | None = None
+    ctx: Context,
+    rule_id: str,
+    value: float | None,
+    unit: str,
+    message: str,
+    index: int | None = None,
+    worked: str | None = None,
 ) -> Finding:
     corner = corner_used(ctx, index) if index is not None else {}
-    return Finding(rule_id, RULES[rule_id].title, "note", value, unit, None, None, corner, message)
+    return Finding(
+        rule_id, RULES[rule_id].title, "note", value, unit, None, None, corner, message, worked=worked
+    )
 
 
 def _si(x: float, unit: str) -> str:
     return format_si(float(x), unit)
+
+
+def _n(x: float, unit: str = "") -> str:
+    """A number in a worked formula: four significant digits, enough to check by hand; a negative
+    number in brackets with a true minus sign, so "150 °C − (−10 °C)" reads right."""
+    text = format_si(float(x), unit, digits=4)
+    return f"(−{text[1:]})" if text.startswith("-") else text
+
+
+def _sum_r(*parts: tuple[str, float]) -> str:
+    """R_a + R_b written with the numbers, leaving out the parts that are zero."""
+    return " + ".join(_n(r, "Ω") for _, r in parts if r) or "0 Ω"

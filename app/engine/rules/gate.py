@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..switches.nmos import threshold_tempco
-from .core import Context, Finding, _si, judge, rule
+from .core import Context, Finding, _n, _si, _sum_r, judge, rule
 
 NMOS = ("nmos",)
 
@@ -42,7 +42,32 @@ def enhancement(ctx: Context) -> Finding:
             text += "; R_DS(on) is not guaranteed here: pick a FET rated at this gate voltage, or drive the gate higher"
         return text
 
-    return judge(ctx, "gate.enhancement", vgs, vth, fet.rds_on_vgs, "V", keep_below=False, message=message)
+    return judge(
+        ctx,
+        "gate.enhancement",
+        vgs,
+        vth,
+        fet.rds_on_vgs,
+        "V",
+        keep_below=False,
+        message=message,
+        worked=lambda i: (
+            f"V_GS(th),max(T_A) = {_n(fet.vgs_th_max, 'V')} + {threshold_tempco(fet) * 1e3:g} mV/K·"
+            f"({_n(op.ambient[i], '°C')} − 25 °C) = {_n(vth[i], 'V')}; "
+            + _divider_text(ctx, "V_GS,on", op.v_th_on[i], op.r_th_on[i], i, vgs[i])
+        ),
+    )
+
+
+def _divider_text(ctx: Context, name: str, v_th: float, r_th: float, i: int, value: float) -> str:
+    op = ctx.op
+    if not np.isfinite(op.r_pulldown[i]):
+        return f"{name} = V_th (no pull-down, no gate current) = {_n(value, 'V')}"
+    resistors = _sum_r(("R_th", r_th), ("R_g", op.r_series[i]), ("R_gs", op.r_pulldown[i]))
+    return (
+        f"{name} = V_th·R_gs/(R_th + R_g + R_gs) = {_n(v_th, 'V')}·{_n(op.r_pulldown[i], 'Ω')}/"
+        f"({resistors}) = {_n(value, 'V')}"
+    )
 
 
 @rule("gate.threshold_off", "Gate held off", kinds=NMOS)
@@ -73,6 +98,12 @@ def threshold_off(ctx: Context) -> Finding:
         "V",
         keep_below=True,
         message=message,
+        worked=lambda i: (
+            f"V_GS(th),min(T_J) = {_n(ctx.design.switch.vgs_th_min, 'V')} + "
+            f"{threshold_tempco(ctx.design.switch) * 1e3:g} mV/K·({_n(op.junction_temp[i], '°C')} − 25 °C) = "
+            f"{_n(vth[i], 'V')}; "
+            + _divider_text(ctx, "V_GS,off", op.v_th_off[i], op.r_th_off[i], i, vgs_off[i])
+        ),
     )
 
 
@@ -91,6 +122,10 @@ def gate_voltage(ctx: Context) -> Finding:
         "V",
         keep_below=True,
         message=lambda i, s: f"|V_GS| up to {_si(value[i], 'V')}, rated ±{_si(fet.vgs_max, 'V')}",
+        worked=lambda i: (
+            f"|V_GS| = max(|V_GS,on|, |V_GS,off|) = max({_n(abs(op.switch['vgs_on'][i]), 'V')}, "
+            f"{_n(abs(op.switch['vgs_off'][i]), 'V')}) = {_n(value[i], 'V')}"
+        ),
     )
 
 
@@ -116,6 +151,10 @@ def gate_resistor_power(ctx: Context) -> Finding:
         keep_below=True,
         message=lambda i, s: (
             f"{_si(power[i], 'W')} in R_g {_si(op.r_series[i], 'Ω')} ({_si(current[i], 'A')} DC)"
+        ),
+        worked=lambda i: (
+            f"I_g = |V_th|/(R_th + R_g + R_gs) = {_n(current[i], 'A')}; P = I_g²·R_g = "
+            f"({_n(current[i], 'A')})²·{_n(op.r_series[i], 'Ω')} = {_n(power[i], 'W')}"
         ),
     )
 

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from .core import Context, Finding, _si, judge, rule
+from .core import Context, Finding, _n, _si, judge, rule
 
 
 @rule("resistor.power", "Base resistor power", kinds=("npn", "darlington_array"))
@@ -24,4 +24,8 @@ def resistor_power(ctx: Context) -> Finding | None:
         "W",
         keep_below=True,
         message=lambda i, s: f"{_si(power[i], 'W')} in R_b {_si(op.r_series[i], 'Ω')}",
+        worked=lambda i: (
+            f"P = I_Rb²·R_b = ({_n(op.base_resistor_current[i], 'A')})²·{_n(op.r_series[i], 'Ω')} = "
+            f"{_n(power[i], 'W')}"
+        ),
     )

@@ -6,7 +6,7 @@ from dataclasses import replace
 
 import numpy as np
 
-from .core import RULES, Context, Finding, _si, judge, rule, worse
+from .core import RULES, Context, Finding, _n, _si, judge, rule, worse
 
 
 @rule("switch.current", "Switch current")
@@ -27,7 +27,25 @@ def switch_current(ctx: Context) -> Finding:
         "A",
         keep_below=True,
         message=lambda i, s: f"{_si(op.collector_current[i], 'A')} against {_si(rating, 'A')} rated",
+        worked=lambda i: _worked_current(ctx, i),
     )
+
+
+def _worked_current(ctx: Context, i: int) -> str:
+    op, sw = ctx.op, ctx.design.switch
+    if sw.kind == "nmos":
+        return (
+            f"I_D = V_cc,max/{_load_name(op, i)} (R_DS(on) taken as 0) = {_n(op.vcc[i], 'V')}/"
+            f"{_n(op.load_resistance[i], 'Ω')} = {_n(op.collector_current[i], 'A')}"
+        )
+    return (
+        f"I_C = (V_cc,max − V_CE(sat),min)/{_load_name(op, i)} = ({_n(op.vcc[i], 'V')} − "
+        f"{_n(sw.vce_sat_low, 'V')})/{_n(op.load_resistance[i], 'Ω')} = {_n(op.collector_current[i], 'A')}"
+    )
+
+
+def _load_name(op, i: int) -> str:
+    return "(R_coil ∥ R_p)" if op.load_resistance[i] < op.r_coil[i] else "R_coil"
 
 
 @rule("switch.breakdown", "Turn-off spike against breakdown")
@@ -57,6 +75,8 @@ def breakdown(ctx: Context) -> Finding:
                 v_br,
                 ctx.corners.describe(worst),
                 text + "; the avalanche energy is judged by switch.avalanche",
+                worked=f"I_0 = {_n(to.initial_current[worst], 'A')} with no clamp: L·di/dt drives the drain to "
+                f"{symbol} {_n(v_br, 'V')} or above, where the FET avalanches; no finite clamp voltage",
             )
         return Finding(
             "switch.breakdown",
@@ -68,6 +88,8 @@ def breakdown(ctx: Context) -> Finding:
             v_br,
             ctx.corners.describe(worst),
             text,
+            worked=f"I_0 = {_n(to.initial_current[worst], 'A')} with no clamp: L·di/dt drives the node past "
+            f"{symbol} {_n(v_br, 'V')} into avalanche; no finite clamp voltage",
         )
     peak = to.peak_switch_voltage
     return judge(
@@ -82,7 +104,16 @@ def breakdown(ctx: Context) -> Finding:
             f"spike to {_si(peak[i], 'V')} from {_si(to.initial_current[i], 'A')}, {symbol} {_si(v_br, 'V')}"
             + ctx.clamp.breakdown_note(ctx.design.clamp)
         ),
+        worked=lambda i: _worked_spike(ctx, i),
     )
+
+
+def _worked_spike(ctx: Context, i: int) -> str:
+    to, path = ctx.turnoff, ctx.path
+    i0, peak, vcc = to.initial_current[i], to.peak_switch_voltage[i], path.vcc[i]
+    if path.supply_in_loop:  # the clamp returns to ground: the switch sees the clamp's own voltage
+        return f"V_peak = v_clamp(I_0 = {_n(i0, 'A')}) = {_n(peak, 'V')}"
+    return f"V_peak = V_cc + v_c(I_0) = {_n(vcc, 'V')} + v_c({_n(i0, 'A')}) {_n(peak - vcc, 'V')} = {_n(peak, 'V')}"
 
 
 def _power_message(ctx: Context, i: int) -> str:
@@ -127,7 +158,63 @@ def switch_power(ctx: Context) -> Finding:
         "W",
         keep_below=True,
         message=lambda i, s: _power_message(ctx, i),
+        worked=lambda i: _worked_power(ctx, i),
     )
+
+
+def _input_voltage(sw) -> float:
+    """The input voltage of a conducting bipolar switch: V_BE(sat), or a Darlington's V_I(on)."""
+    return sw.vbe_on if sw.kind == "darlington_array" else sw.vbe_sat
+
+
+def _worked_power(ctx: Context, i: int) -> str:
+    """P with the worst corner's numbers, and the power allowed at its ambient."""
+    op, sw = ctx.op, ctx.design.switch
+    allowed = (
+        f"allowed min(P_max, (T_J,max − T_A)/R_θJA) = min({_n(sw.p_max, 'W')}, ({_n(sw.tj_max, '°C')} − "
+        f"{_n(op.ambient[i], '°C')})/{_n(sw.rth_ja, 'K/W')}) = {_n(op.power_allowed[i], 'W')}"
+    )
+    if sw.kind == "nmos":
+        if op.linear_bound[i] or not np.isfinite(op.dissipation[i]):
+            power = (
+                f"P = V_cc²/(4·R_load) = ({_n(op.vcc[i], 'V')})²/(4·{_n(op.load_resistance[i], 'Ω')}) = "
+                f"{_n(op.dissipation[i], 'W')}"
+            )
+        else:
+            power = (
+                f"{_worked_fet_solve(ctx, i)}; P = I_D²·R_DS(on)(T_J) = ({_n(op.collector_current[i], 'A')})²·"
+                f"{_n(op.switch['rds'][i], 'Ω')} = {_n(op.dissipation[i], 'W')}"
+            )
+        return f"{allowed}; {power}"
+    if sw.kind == "darlington_array":
+        v_in, r_in = sw.vbe_on, ctx.corners["r_input"][i]
+        i_b = op.base_current[i]
+        per_channel = op.dissipation[i] / sw.channels_on
+        on_power = per_channel - i_b * v_in - i_b**2 * r_in
+        return (
+            f"{allowed}; P = channels_on·(I_C·V_CE + I_B·V_I(on) + I_B²·R_in) = {sw.channels_on}·"
+            f"({_n(on_power, 'W')} + {_n(i_b, 'A')}·{_n(v_in, 'V')} + ({_n(i_b, 'A')})²·{_n(r_in, 'Ω')}) = "
+            f"{_n(op.dissipation[i], 'W')}"
+        )
+    base = f"{_n(op.base_current[i], 'A')}·{_n(sw.vbe_sat, 'V')}"
+    on_power = op.dissipation[i] - op.base_current[i] * sw.vbe_sat
+    if op.linear_bound[i]:
+        power = (
+            f"P = V_cc²/(4·R_load) + I_B·V_BE(sat) = ({_n(op.vcc[i], 'V')})²/(4·{_n(op.load_resistance[i], 'Ω')})"
+            f" + {base} = {_n(op.dissipation[i], 'W')}"
+        )
+    elif op.overdrive[i] >= 1:
+        i_c = op.required_base_current[i] * sw.hfe_min
+        power = (
+            f"P = I_C·V_CE(sat) + I_B·V_BE(sat) = {_n(i_c, 'A')}·{_n(sw.vce_sat, 'V')} + {base} = "
+            f"{_n(op.dissipation[i], 'W')}"
+        )
+    else:
+        power = (
+            f"P = I_C·V_CE + I_B·V_BE(sat) = {_n(on_power, 'W')} (not saturated: I_C at the edge of the "
+            f"gain range, V_CE = V_cc − I_C·R_load) + {base} = {_n(op.dissipation[i], 'W')}"
+        )
+    return f"{allowed}; {power}"
 
 
 @rule("switch.junction_temp", "Junction temperature")
@@ -154,6 +241,36 @@ def junction_temp(ctx: Context) -> Finding:
             f"T_J {op.junction_temp[i]:.1f} °C at T_A {op.ambient[i]:.0f} °C"
             + (_fet_power_text(ctx, i) if sw.kind == "nmos" else "")
         ),
+        worked=lambda i: _worked_junction(ctx, i),
+    )
+
+
+def _worked_junction(ctx: Context, i: int) -> str:
+    op, sw = ctx.op, ctx.design.switch
+    text = (
+        f"T_J = T_A + P·R_θJA = {_n(op.ambient[i], '°C')} + {_n(op.dissipation[i], 'W')}·"
+        f"{_n(sw.rth_ja, 'K/W')} = {_n(op.junction_temp[i], '°C')}"
+    )
+    if sw.kind == "nmos" and not op.linear_bound[i] and np.isfinite(op.junction_temp[i]):
+        return f"{_worked_fet_solve(ctx, i)}; {text}"
+    return text
+
+
+def _worked_fet_solve(ctx: Context, i: int) -> str:
+    """The R_DS(on)–T_J solution with a corner's numbers (switches/nmos.py junction_with_rds)."""
+    op, fet = ctx.op, ctx.design.switch
+    b = np.log(fet.rds_on_hot) / 100.0
+    a = (
+        fet.rth_ja
+        * op.collector_current[i] ** 2
+        * fet.rds_on
+        * fet.rds_on_hot ** ((op.ambient[i] - 25.0) / 100.0)
+    )
+    return (
+        f"a = R_θJA·I_D²·R_DS(on)(T_A) = {_n(fet.rth_ja, 'K/W')}·({_n(op.collector_current[i], 'A')})²·"
+        f"{_n(fet.rds_on, 'Ω')}·{fet.rds_on_hot:g}^(({_n(op.ambient[i], '°C')} − 25 °C)/100) = {_n(a, 'K')}, "
+        f"b = ln({fet.rds_on_hot:g})/100 = {b:.4g} /K, T_J − T_A = −W₀(−a·b)/b = "
+        f"{_n(op.junction_temp[i] - op.ambient[i], 'K')}; R_DS(on)(T_J) = {_n(op.switch['rds'][i], 'Ω')}"
     )
 
 
@@ -188,6 +305,14 @@ def avalanche(ctx: Context) -> Finding | None:
         f"½·L·I_0²·V_BR/(V_BR − V_cc) with I_0 {_si(to.initial_current[worst], 'A')}, V_BR {_si(v_br, 'V')}, "
         f"V_cc {_si(op.vcc[worst], 'V')}"
     )
+    inductance = ctx.design.coil.inductance
+
+    def worked(i: int) -> str:
+        return (
+            f"E = ½·L·I_0²·V_BR/(V_BR − V_cc) = ½·{_n(inductance, 'H')}·({_n(to.initial_current[i], 'A')})²·"
+            f"{_n(v_br, 'V')}/({_n(v_br, 'V')} − {_n(op.vcc[i], 'V')}) = {_n(energy[i], 'J')}"
+        )
+
     if fet.e_ar is None and fet.e_as is None:
         return Finding(
             "switch.avalanche",
@@ -200,6 +325,7 @@ def avalanche(ctx: Context) -> Finding | None:
             ctx.corners.describe(worst),
             f"{_si(energy[worst], 'J')} of avalanche at every turn-off ({formula}) and no avalanche rating "
             "given (switch.e_as, switch.e_ar): add a clamp",
+            worked=worked(worst),
         )
     if fet.e_ar is not None:
         rating = np.full(ctx.corners.size, fet.e_ar)
@@ -216,6 +342,16 @@ def avalanche(ctx: Context) -> Finding | None:
         "J",
         keep_below=True,
         message=lambda i, s: f"{_si(energy[i], 'J')} per turn-off ({formula}), {_si(rating[i], 'J')} {what}",
+        worked=lambda i: (
+            (
+                ""
+                if fet.e_ar is not None
+                else f"E_AS(T_J) = E_AS·(T_J,max − T_J)/(T_J,max − 25 °C) = {_n(fet.e_as, 'J')}·"
+                f"({_n(fet.tj_max, '°C')} − {_n(op.junction_temp[i], '°C')})/({_n(fet.tj_max, '°C')} − 25 °C) = "
+                f"{_n(rating[i], 'J')}; "
+            )
+            + worked(i)
+        ),
     )
     if fet.e_ar is None and finding.status == "ok":
         return replace(
@@ -258,6 +394,35 @@ def linear_region(ctx: Context) -> Finding | None:
         )
         return text + (advice if s != "ok" else "")
 
+    def worked_power(i: int) -> str:
+        base = op.divider["base_on"][i]
+        bound = f"V_cc²/(4·R_load) = ({_n(op.vcc[i], 'V')})²/(4·{_n(op.load_resistance[i], 'Ω')})"
+        if sw.kind == "nmos":
+            return f"P = {bound} = {_n(power[i], 'W')}"
+        if sw.kind == "darlington_array":
+            edge = bound if op.sweep_bound[i] else "I·(V_cc − I·R_load) at the edge of the gain range"
+            return (
+                f"P = channels_on·({edge} + I_B,on·V_I(on) + I_B,on²·R_in), {sw.channels_on} channels, "
+                f"I_B,on up to {_n(base, 'A')} = {_n(power[i], 'W')}"
+            )
+        if op.sweep_bound[i]:
+            head = (
+                f"P = V_cc²/(4·R_load) + I_B,on·V_BE(sat) = ({_n(op.vcc[i], 'V')})²/"
+                f"(4·{_n(op.load_resistance[i], 'Ω')}) + {_n(base, 'A')}·{_n(sw.vbe_sat, 'V')}"
+            )
+        else:
+            head = (
+                f"P = I·(V_cc − I·R_load) at the edge of the gain range + I_B,on·V_BE(sat), with "
+                f"I_B,on = {_n(base, 'A')}"
+            )
+        return f"{head} = {_n(power[i], 'W')}"
+
+    def worked_junction(i: int) -> str:
+        return (
+            f"{worked_power(i)}; T_J = T_A + P·R_θJA = {_n(op.ambient[i], '°C')} + {_n(power[i], 'W')}·"
+            f"{_n(sw.rth_ja, 'K/W')} = {_n(tj[i], '°C')}"
+        )
+
     by_power = judge(
         ctx,
         "switch.linear_region",
@@ -267,6 +432,7 @@ def linear_region(ctx: Context) -> Finding | None:
         "W",
         keep_below=True,
         message=message,
+        worked=worked_power,
     )
     by_junction = judge(
         ctx,
@@ -277,6 +443,7 @@ def linear_region(ctx: Context) -> Finding | None:
         "°C",
         keep_below=True,
         message=message,
+        worked=worked_junction,
     )
     return worse(by_power, by_junction)
 

@@ -34,6 +34,7 @@ class SwitchKind:
     resistors_required: ClassVar[bool] = True
     fields: ClassVar[tuple[FormSlot, ...]] = ()
     breakdown_symbol: ClassVar[str] = "V_(BR)CEO"
+    on_voltage_symbol: ClassVar[str] = "V_CE(sat),min"  # the lowest on-voltage, in worked texts
     current_symbol: ClassVar[str] = "I_C"
     # Whether the netlist models the switch's own breakdown, so an unclamped turn-off can be
     # simulated (a MOSFET's avalanche through its body diode).

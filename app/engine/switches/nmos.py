@@ -67,6 +67,7 @@ class NmosLowSide(SwitchKind):
     resistors = "gate"
     fields = (FormSlot("switch", "N-channel MOSFET", part="nmos"),)
     breakdown_symbol = "V_(BR)DSS"
+    on_voltage_symbol = "I_D·R_DS(on) taken as 0"
     simulates_avalanche = True
     current_symbol = "I_D"
     unclamped_verdict = "drives the drain into avalanche at V_(BR)DSS or above at every turn-off"
@@ -195,6 +196,7 @@ class NmosLowSide(SwitchKind):
                 "conducts": conducts,
                 "rds": rds,
                 "r_on": r_on,
+                "r_hot_load": r_hot_load,
             },
         )
 
