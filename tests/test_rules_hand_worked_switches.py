@@ -413,3 +413,24 @@ def test_every_rule_for_one_kind_has_a_hand_worked_check():
         if registered.kinds is not None and "npn" not in registered.kinds:
             assert f'"{registered.id}"' in text, registered.id
             assert registered.formula, registered.id
+
+
+def test_the_schema_knows_the_switch_kinds_and_their_resistors():
+    """JSON Schema (draft 2020-12, the jsonschema package): each kind validates with its own
+    resistor block and is refused with the other one."""
+    import jsonschema
+
+    from app.engine.schema import design_schema
+
+    schema = design_schema()
+    jsonschema.Draft202012Validator.check_schema(schema)
+    for good in (NMOS, DARLINGTON, npn_design()):
+        jsonschema.validate(good, schema)
+    old = npn_design()
+    del old["switch"]["kind"]
+    jsonschema.validate(old, schema)  # no kind: an NPN, which needs its base block
+    del old["base"]
+    with pytest.raises(jsonschema.ValidationError):
+        jsonschema.validate(old, schema)
+    with pytest.raises(jsonschema.ValidationError):
+        jsonschema.validate({**NMOS, "base": NMOS["gate"]}, schema)
