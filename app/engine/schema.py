@@ -24,8 +24,9 @@ def design_schema() -> dict:
         then: dict = {"not": {"required": [other]}}
         if kind.resistors_required:
             then["required"] = [kind.resistors]
-        rules.append(
-            {"if": {"properties": {"switch": {"properties": {"kind": {"const": kind.kind}}}}}, "then": then}
-        )
+        switch: dict = {"properties": {"kind": {"const": kind.kind}}}
+        if kind.model.model_fields["kind"].default != kind.kind:  # only the default kind may omit it
+            switch["required"] = ["kind"]
+        rules.append({"if": {"properties": {"switch": switch}}, "then": then})
     schema["allOf"] = rules
     return schema
