@@ -65,6 +65,7 @@ def _requests(app, role):
         ("POST", f"/fixtures/{fid}/profile", "edit_profiles", {"data": {"profile": str(prof)}}),
         ("GET", f"/revisions/{rev}/review", "read", {}),
         ("GET", f"/revisions/{rev}/record", "read", {}),
+        ("GET", f"/revisions/{rev}/tighten", "read", {}),
         (
             "GET",
             f"/revisions/{rev}/record.pdf",
@@ -129,6 +130,7 @@ def _requests(app, role):
         ("GET", f"/api/v1/channels/{c1}", "read", {}),
         ("GET", f"/api/v1/revisions/{rev}", "read", {}),
         ("GET", f"/api/v1/revisions/{rev}/report", "read", {}),
+        ("GET", f"/api/v1/revisions/{rev}/tighten", "read", {}),
         ("POST", "/api/v1/evaluate", "read", {"json": latest_document(app, K1)}),
         (
             "POST",

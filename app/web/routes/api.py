@@ -27,7 +27,7 @@ from ..deps import (
 from ..paging import MAX_OFFSET
 from ..services import fixtures, parts, review, revisions, users
 from ..services.errors import InputProblems
-from ..services.reports import evaluate_document
+from ..services.reports import evaluate_document, tighten_for
 from ..services.revisions import validate_document
 
 
@@ -400,6 +400,13 @@ def get_revision(db: DB, user: Viewer, revision_id: int):
 def get_report(db: DB, user: Viewer, revision_id: int) -> dict[str, Any]:
     """The report (clampdown-report/1) for the revision, from the cache for this engine version."""
     return revisions.revision_view(db, revision_id).report.body
+
+
+@router.get("/revisions/{revision_id}/tighten")
+def get_tighten(db: DB, user: Viewer, revision_id: int) -> list[dict[str, Any]]:
+    """What to tighten: per rule with a margin, each tolerance that moves it and by how much when
+    halved (margins as fractions of the derated limit), tightest rule first."""
+    return tighten_for(db, revisions.get_revision(db, revision_id))
 
 
 @router.post("/evaluate")

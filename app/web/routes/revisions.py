@@ -16,7 +16,7 @@ from ..services import findings_view, fixtures, record, revision_form, revisions
 from ..services.documents import canonical_json, load_json_file
 from ..services.errors import InputProblems
 from ..services.parts import search_parts
-from ..services.reports import evaluate_document
+from ..services.reports import evaluate_document, tighten_for
 from ..templating import redirect_done, render
 from .pages import channel_context
 
@@ -43,6 +43,20 @@ def revision_page(request: Request, db: DB, user: Viewer, revision_id: int, sort
         request.app.state.fragments.put(key, cached)
     title, body = cached
     return render(request, "revision.html", title=title, body=body)
+
+
+@router.get("/revisions/{revision_id}/tighten")
+def tighten_page(request: Request, db: DB, user: Viewer, revision_id: int):
+    """Which tolerance moves each rule's margin, and by how much when halved."""
+    view = revisions.revision_view(db, revision_id)
+    entries = tighten_for(db, view.revision)
+    return render(
+        request,
+        "tighten.html",
+        title=f"{view.channel.name} rev {view.revision.label}: what to tighten",
+        view=view,
+        entries=entries,
+    )
 
 
 @router.get("/revisions/{revision_id}/design.json")
