@@ -164,7 +164,10 @@ def with_httpx(url: str, cookie: str, seconds: int, connections: int) -> tuple[f
             elapsed = time.perf_counter() - started
         latencies.sort()
         if failures:
-            print(f"  {url}: {len(failures)} connection failures ({', '.join(sorted(set(failures)))})", flush=True)
+            print(
+                f"  {url}: {len(failures)} connection failures ({', '.join(sorted(set(failures)))})",
+                flush=True,
+            )
         return (
             len(latencies) / elapsed,
             statistics.median(latencies),
@@ -242,9 +245,13 @@ def main() -> None:
             print(f"{name:15} {rps:9.0f} {p50:8.1f} {p99:8.1f} {rps / trivial:10.0%}")
         rps, _, p99 = results["revision page"]
         print(f"goal: revision page >= 40 % of trivial ({rps / trivial:.0%}) and p99 < 60 ms ({p99:.1f} ms)")
-        lists = {name: r[0] / trivial for name, r in results.items() if name not in ("trivial", "revision page")}
+        lists = {
+            name: r[0] / trivial for name, r in results.items() if name not in ("trivial", "revision page")
+        }
         slowest = min(lists, key=lists.get)
-        print(f"goal: every other page and API list >= 25 % of trivial (lowest: {slowest} {lists[slowest]:.0%})")
+        print(
+            f"goal: every other page and API list >= 25 % of trivial (lowest: {slowest} {lists[slowest]:.0%})"
+        )
     finally:
         server.terminate()
         server.wait(10)
