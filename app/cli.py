@@ -77,11 +77,11 @@ def _read_json(path: str, what: str):
         ) from None
 
 
-def evaluate(design, profile):
+def evaluate(design, profile, **extras):
     """The engine's evaluate(), imported on first use."""
     from .engine import evaluate as run
 
-    return run(design, profile)
+    return run(design, profile, **extras)
 
 
 def load_design_file(path: str):
@@ -127,6 +127,11 @@ def design_files(paths: list[str]) -> list[tuple[str, InputError | None]]:
     return out
 
 
+def _extras(args: argparse.Namespace) -> dict:
+    """What the report adds on request (the engine's keyword arguments)."""
+    return {"windows": True} if args.windows else {}
+
+
 def _exit_code(report: dict, strict: bool) -> int:
     statuses = {f["status"] for f in report["findings"]}
     return 1 if "violation" in statuses or (strict and "marginal" in statuses) else 0
@@ -153,7 +158,7 @@ def _check(args: argparse.Namespace) -> int:
         try:
             if problem is not None:
                 raise problem
-            report = evaluate(load_design_file(path), profile)
+            report = evaluate(load_design_file(path), profile, **_extras(args))
         except InputError as exc:
             for line in exc.lines:
                 print(line, file=sys.stderr)
@@ -230,7 +235,7 @@ def _check_one(args: argparse.Namespace, profile) -> int:
     from .engine.text_report import render_table
 
     design = load_design_file(args.files[0])
-    report = evaluate(design, profile)
+    report = evaluate(design, profile, **_extras(args))
     if args.format == "json":
         # allow_nan=False: a NaN or an infinity in a report is a bug, never valid JSON.
         print(json.dumps(report, indent=2, ensure_ascii=False, allow_nan=False))
@@ -291,6 +296,13 @@ def build_parser() -> argparse.ArgumentParser:
         help="junit: JUnit XML, one test suite per design file and one test case per rule",
     )
     check.add_argument("--strict", action="store_true", help="exit 1 on marginal findings too")
+    check.add_argument(
+        "--windows",
+        action="store_true",
+        help="add the design window: for the base resistor, pull-down, zener voltage and clamp "
+        "R and C, the interval where every rule holds (others as designed) and the standard "
+        "values inside it",
+    )
     check.add_argument(
         "--profile",
         metavar="FILE",

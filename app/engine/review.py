@@ -282,8 +282,11 @@ def _num(x) -> float | None:
     return x if np.isfinite(x) else None
 
 
-def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE) -> dict:
-    """Evaluate every rule at its worst corner; return the report (format clampdown-report/1)."""
+def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE, *, windows: bool = False) -> dict:
+    """Evaluate every rule at its worst corner; return the report (format clampdown-report/1).
+
+    ``windows``: add ``windows``, the design window of every value the designer chose
+    (app/engine/window.py); it evaluates the design a few hundred times, so it is asked for."""
     ctx = build_context(design, profile)
     findings: list[Finding] = []
     for registered in RULES.values():
@@ -294,7 +297,7 @@ def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE) -> dict:
     if verdict == "note":
         verdict = "ok"
     nom, to = ctx.nominal, ctx.turnoff_nominal
-    return {
+    report = {
         "format": REPORT_FORMAT,
         "engine_version": ENGINE_VERSION,
         "design": design.name,
@@ -328,6 +331,11 @@ def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE) -> dict:
             "alternatives": ctx.extras["alternatives"],
         },
     }
+    if windows:
+        from .window import design_windows
+
+        report["windows"] = design_windows(design, profile)
+    return report
 
 
 def evaluate_many(designs: Iterable[Design], profile: Profile = DEFAULT_PROFILE) -> list[dict]:
