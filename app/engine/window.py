@@ -41,7 +41,8 @@ class Choice:
     """A value the designer chooses: where it sits in the design, and how to change it."""
 
     key: str  # design-file path: "base.r_series"
-    label: str  # what a reviewer reads: "R_b"
+    label: str  # its symbol: "R_b"
+    title: str  # what a reviewer reads: "Base resistor"
     unit: str
     series: str  # "E24" (resistors, zeners) or "E12" (capacitors)
     span: float  # searched from value/span to value·span
@@ -57,7 +58,7 @@ def _nested(design: Design, path: tuple[str, ...], x: float):
     return design.model_copy(update={path[0]: _nested(inner, path[1:], x)})
 
 
-def _choice(key: str, label: str, unit: str, series: str, span: float) -> Choice:
+def _choice(key: str, label: str, title: str, unit: str, series: str, span: float) -> Choice:
     path = tuple(key.split("."))
 
     def value(design: Design) -> float | None:
@@ -68,15 +69,15 @@ def _choice(key: str, label: str, unit: str, series: str, span: float) -> Choice
                 return None
         return float(node)
 
-    return Choice(key, label, unit, series, span, value, lambda d, x: _nested(d, path, x))
+    return Choice(key, label, title, unit, series, span, value, lambda d, x: _nested(d, path, x))
 
 
 CHOICES: tuple[Choice, ...] = (
-    _choice("base.r_series", "R_b", "Ω", "E24", 1000.0),
-    _choice("base.r_pulldown", "R_be", "Ω", "E24", 1000.0),
-    _choice("clamp.zener.vz", "V_Z", "V", "E24", 10.0),
-    _choice("clamp.r", "R_clamp", "Ω", "E24", 1000.0),
-    _choice("clamp.c", "C_clamp", "F", "E12", 1000.0),
+    _choice("base.r_series", "R_b", "Base resistor", "Ω", "E24", 1000.0),
+    _choice("base.r_pulldown", "R_be", "Base pull-down", "Ω", "E24", 1000.0),
+    _choice("clamp.zener.vz", "V_Z", "Zener voltage", "V", "E24", 10.0),
+    _choice("clamp.r", "R_clamp", "Clamp resistor", "Ω", "E24", 1000.0),
+    _choice("clamp.c", "C_clamp", "Snubber capacitor", "F", "E12", 1000.0),
 )
 
 
@@ -197,6 +198,7 @@ def window(design: Design, choice: Choice, profile: Profile = DEFAULT_PROFILE) -
     out: dict = {
         "value": choice.key,
         "label": choice.label,
+        "title": choice.title,
         "unit": choice.unit,
         "designed": designed,
         "designed_passes": probe.passes(designed),
@@ -244,7 +246,12 @@ def window(design: Design, choice: Choice, profile: Profile = DEFAULT_PROFILE) -
         )
     passing_standard = [s for s in out["standard"] if s["passes"] and s["margin"] is not None]
     if passing_standard:
-        out["best"] = max(passing_standard, key=lambda s: s["margin"])["value"]
+        # The largest tightest margin; among equals (a rule this value does not move sets it),
+        # the one nearest the middle of the window (in log), the farthest from both edges.
+        middle = math.sqrt(out["low"] * out["high"])
+        out["best"] = max(
+            passing_standard, key=lambda s: (round(s["margin"], 9), -abs(math.log(s["value"] / middle)))
+        )["value"]
     if any(not s["passes"] for s in out["standard"]):
         out["note"] = (
             "some standard values inside fail: the rules are not monotonic in this value, so the "
