@@ -59,4 +59,9 @@ def render_table(report: dict) -> str:
             format_si(tr["energy"], "J"),
         )
     )
+    if report.get("windows") is not None:
+        from .window import describe
+
+        out += ["", "design window (every other value as designed; every rule within its derated limit):"]
+        out += [f"  {describe(w)}" for w in report["windows"]] or ["  no value to vary"]
     return "\n".join(out) + "\n"

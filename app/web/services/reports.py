@@ -97,3 +97,18 @@ def tighten_for(db: Session, revision) -> list[dict]:
 
 # Per process; a revision's content never changes, so an entry never goes stale.
 _TIGHTEN: dict[tuple, list[dict]] = {}
+
+
+def windows_for(db: Session, revision) -> list[dict]:
+    """The design window of a revision (app/engine/window.py), judged by the same profile version
+    as its report. It evaluates the design a few hundred times: asked for, never part of the
+    stored report."""
+    from app.engine.window import design_windows
+
+    from .profiles import engine_profile
+
+    profile = engine_profile(db, revision.profile_version_id)
+    try:
+        return finite_json(design_windows(parse_design(revision.document), profile))
+    except DesignError as exc:
+        raise InputProblems([split_problem(line) for line in exc.problems]) from None
