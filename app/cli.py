@@ -129,7 +129,34 @@ def design_files(paths: list[str]) -> list[tuple[str, InputError | None]]:
 
 def _extras(args: argparse.Namespace) -> dict:
     """What the report adds on request (the engine's keyword arguments)."""
-    return {"windows": True} if args.windows else {}
+    extras: dict = {"windows": True} if args.windows else {}
+    if args.tighten:
+        extras["tighten"] = True
+    if args.samples is not None:
+        extras.update(samples=args.samples, seed=args.seed)
+    return extras
+
+
+def _sample_count(text: str) -> int:
+    from .engine.montecarlo import MAX_SAMPLES
+
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if not 1 <= value <= MAX_SAMPLES:
+        raise argparse.ArgumentTypeError(f"from 1 to {MAX_SAMPLES}, not {value}")
+    return value
+
+
+def _seed(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if not 0 <= value < 2**63:
+        raise argparse.ArgumentTypeError(f"from 0 to 2**63 − 1, not {value}")
+    return value
 
 
 def _exit_code(report: dict, strict: bool) -> int:
@@ -303,6 +330,18 @@ def build_parser() -> argparse.ArgumentParser:
         "R and C, the interval where every rule holds (others as designed) and the standard "
         "values inside it",
     )
+    check.add_argument(
+        "--tighten",
+        action="store_true",
+        help="add what to tighten: each tolerance halved in turn and how far it moves each rule's margin",
+    )
+    check.add_argument(
+        "--samples",
+        type=_sample_count,
+        metavar="N",
+        help="add the Monte Carlo yield of N seeded draws of every toleranced quantity",
+    )
+    check.add_argument("--seed", type=_seed, default=1, help="seed of the Monte Carlo draws (default 1)")
     check.add_argument(
         "--profile",
         metavar="FILE",

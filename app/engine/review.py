@@ -282,11 +282,21 @@ def _num(x) -> float | None:
     return x if np.isfinite(x) else None
 
 
-def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE, *, windows: bool = False) -> dict:
+def evaluate(
+    design: Design,
+    profile: Profile = DEFAULT_PROFILE,
+    *,
+    windows: bool = False,
+    tighten: bool = False,
+    samples: int | None = None,
+    seed: int = 1,
+) -> dict:
     """Evaluate every rule at its worst corner; return the report (format clampdown-report/1).
 
-    ``windows``: add ``windows``, the design window of every value the designer chose
-    (app/engine/window.py); it evaluates the design a few hundred times, so it is asked for."""
+    Asked for, because each evaluates the design many times: ``windows`` adds ``windows``, the
+    design window of every value the designer chose (app/engine/window.py); ``tighten`` adds
+    ``tighten``, which tolerance moves each rule's margin (app/engine/tighten.py); ``samples``
+    adds ``yield``, the Monte Carlo yield of that many draws with ``seed`` (app/engine/montecarlo.py)."""
     ctx = build_context(design, profile)
     findings: list[Finding] = []
     for registered in RULES.values():
@@ -335,6 +345,14 @@ def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE, *, windows: boo
         from .window import design_windows
 
         report["windows"] = design_windows(design, profile)
+    if tighten:
+        from .tighten import what_to_tighten
+
+        report["tighten"] = what_to_tighten(design, profile, report)
+    if samples is not None:
+        from .montecarlo import monte_carlo
+
+        report["yield"] = monte_carlo(design, profile, samples, seed)
     return report
 
 

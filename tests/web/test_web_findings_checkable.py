@@ -118,3 +118,24 @@ def test_what_to_tighten_names_the_tolerance_and_its_number(world, reviewer):
     assert first["title"] in page and first["levers"][0]["quantity"] in page
     assert f"{first['levers'][0]['change'] * 100:+.1f} points" in page
     assert f'href="/revisions/{rid}/tighten"' in reviewer.get(f"/revisions/{rid}").text
+
+
+def test_monte_carlo_yield_on_demand_with_its_figures_and_refusals(world, reviewer):
+    """The revision's Monte Carlo yield (app/engine/montecarlo.py, checked against closed forms
+    in tests/test_montecarlo.py): the API gives the engine's figures for the stored design, the
+    page shows them, and a sample count out of range is refused by name."""
+    from app.engine import parse_design
+    from app.engine.montecarlo import monte_carlo
+
+    rid = revision_ids(world, K1)[2]
+    got = reviewer.get(f"/api/v1/revisions/{rid}/yield", params={"samples": 2000, "seed": 4}).json()
+    document = reviewer.get(f"/revisions/{rid}/design.json").json()
+    expected = monte_carlo(parse_design(document), samples=2000, seed=4)
+    assert got["yield"] == expected["yield"] and got["rules"] == expected["rules"]
+    page = reviewer.get(f"/revisions/{rid}/yield", params={"samples": 2000, "seed": 4}).text
+    assert f"{expected['yield'] * 100:.2f} %" in page and "Wilson" in page
+    assert f'href="/revisions/{rid}/yield"' in reviewer.get(f"/revisions/{rid}").text
+    for bad in ({"samples": 0}, {"samples": 100_001}, {"samples": "many"}, {"seed": -1}):
+        answer = reviewer.get(f"/api/v1/revisions/{rid}/yield", params=bad)
+        assert answer.status_code in (400, 422), bad
+        assert next(iter(bad)) in answer.text

@@ -67,6 +67,7 @@ def _requests(app, role):
         ("GET", f"/revisions/{rev}/review", "read", {}),
         ("GET", f"/revisions/{rev}/record", "read", {}),
         ("GET", f"/revisions/{rev}/tighten", "read", {}),
+        ("GET", f"/revisions/{rev}/yield?samples=200", "read", {}),
         (
             "GET",
             f"/revisions/{rev}/record.pdf",
@@ -132,6 +133,7 @@ def _requests(app, role):
         ("GET", f"/api/v1/revisions/{rev}", "read", {}),
         ("GET", f"/api/v1/revisions/{rev}/report", "read", {}),
         ("GET", f"/api/v1/revisions/{rev}/tighten", "read", {}),
+        ("GET", f"/api/v1/revisions/{rev}/yield?samples=200", "read", {}),
         ("POST", "/api/v1/evaluate", "read", {"json": latest_document(app, K1)}),
         (
             "POST",

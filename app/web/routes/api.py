@@ -27,7 +27,7 @@ from ..deps import (
 from ..paging import MAX_OFFSET
 from ..services import fixtures, parts, review, revisions, users
 from ..services.errors import InputProblems
-from ..services.reports import evaluate_document, tighten_for
+from ..services.reports import evaluate_document, tighten_for, yield_for
 from ..services.revisions import validate_document
 
 
@@ -434,6 +434,13 @@ def get_tighten(db: DB, user: Viewer, revision_id: int) -> list[dict[str, Any]]:
     """What to tighten: per rule with a margin, each tolerance that moves it and by how much when
     halved (margins as fractions of the derated limit), tightest rule first."""
     return tighten_for(db, revisions.get_revision(db, revision_id))
+
+
+@router.get("/revisions/{revision_id}/yield")
+def get_yield(db: DB, user: Viewer, revision_id: int, samples: int = 10_000, seed: int = 1) -> dict[str, Any]:
+    """Monte Carlo yield of ``samples`` seeded draws (at most 100 000): per rule the fraction past
+    its rating and past its derated limit with 95 % Wilson intervals, and the overall yield."""
+    return yield_for(db, revisions.get_revision(db, revision_id), samples, seed)
 
 
 @router.post("/evaluate")

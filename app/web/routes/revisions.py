@@ -16,7 +16,7 @@ from ..services import findings_view, fixtures, record, revision_form, revisions
 from ..services.documents import canonical_json, load_json_file
 from ..services.errors import InputProblems
 from ..services.parts import search_parts
-from ..services.reports import evaluate_document, tighten_for, windows_for
+from ..services.reports import WEB_MAX_SAMPLES, evaluate_document, tighten_for, windows_for, yield_for
 from ..templating import redirect_done, render
 from .pages import channel_context
 
@@ -56,6 +56,28 @@ def tighten_page(request: Request, db: DB, user: Viewer, revision_id: int):
         title=f"{view.channel.name} rev {view.revision.label}: what to tighten",
         view=view,
         entries=entries,
+    )
+
+
+@router.get("/revisions/{revision_id}/yield")
+def yield_page(
+    request: Request, db: DB, user: Viewer, revision_id: int, samples: int = 10_000, seed: int = 1
+):
+    """The Monte Carlo yield, on demand: kept per content, profile version, engine, samples, seed."""
+    view = revisions.revision_view(db, revision_id)
+    r = view.revision
+    key = ("yield", r.content_hash, r.profile_version_id, ENGINE_VERSION, samples, seed)
+    result = request.app.state.fragments.get(key)
+    if result is None:
+        result = yield_for(db, r, samples, seed)
+        request.app.state.fragments.put(key, result)
+    return render(
+        request,
+        "yield.html",
+        title=f"{view.channel.name} rev {r.label}: Monte Carlo yield",
+        view=view,
+        result=result,
+        max_samples=WEB_MAX_SAMPLES,
     )
 
 

@@ -112,3 +112,25 @@ def windows_for(db: Session, revision) -> list[dict]:
         return finite_json(design_windows(parse_design(revision.document), profile))
     except DesignError as exc:
         raise InputProblems([split_problem(line) for line in exc.problems]) from None
+
+
+# The most samples the web app draws for one request: about a second of one worker's time.
+WEB_MAX_SAMPLES = 100_000
+
+
+def yield_for(db: Session, revision, samples: int, seed: int) -> dict:
+    """The Monte Carlo yield of a revision (app/engine/montecarlo.py), judged by the profile
+    version it records; asked for, never part of the stored report."""
+    from app.engine.montecarlo import monte_carlo
+
+    from .profiles import engine_profile
+
+    if not 1 <= samples <= WEB_MAX_SAMPLES:
+        raise InputProblems([("samples", f"from 1 to {WEB_MAX_SAMPLES}")])
+    if not 0 <= seed < 2**63:
+        raise InputProblems([("seed", "from 0 to 2**63 − 1")])
+    profile = engine_profile(db, revision.profile_version_id)
+    try:
+        return finite_json(monte_carlo(parse_design(revision.document), profile, samples, seed))
+    except DesignError as exc:
+        raise InputProblems([split_problem(line) for line in exc.problems]) from None
