@@ -6,7 +6,7 @@ Imports nothing from the web app or the database.
 ENGINE_VERSION = "2.1.0"
 
 from .design import DESIGN_FORMAT, Design, DesignError, parse_design  # noqa: E402
-from .review import REPORT_FORMAT, evaluate  # noqa: E402
+from .review import REPORT_FORMAT, evaluate, evaluate_many  # noqa: E402
 
 __all__ = [
     "DESIGN_FORMAT",
@@ -15,5 +15,6 @@ __all__ = [
     "Design",
     "DesignError",
     "evaluate",
+    "evaluate_many",
     "parse_design",
 ]

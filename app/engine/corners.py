@@ -51,6 +51,16 @@ def _spread(nominal: float, tolerance: float) -> tuple[float, float]:
 
 def factors(design: Design) -> list[Factor]:
     """The parameters of this design that vary, with their low and high extremes."""
+    return circuit_factors(design) + clamp_factors(design)
+
+
+def clamp_factors(design: Design) -> list[Factor]:
+    """The clamp's own parameters that vary."""
+    return [Factor(*f) for f in kind_of(design.clamp).factors(design.clamp)]
+
+
+def circuit_factors(design: Design) -> list[Factor]:
+    """Every varying parameter but the clamp's: supply, ambient, coil, base resistors, drive."""
     out = [
         Factor("supply", _round(design.supply.low), _round(design.supply.high), "V"),
         Factor("ambient", design.ambient.min, design.ambient.max, "°C"),
@@ -72,13 +82,13 @@ def factors(design: Design) -> list[Factor]:
     else:
         out.append(Factor("drive_on", drive.high_min, drive.high, "V"))
         out.append(Factor("drive_off", drive.low, drive.low_max, "V"))
-    out += [Factor(*f) for f in kind_of(design.clamp).factors(design.clamp)]
+    # The switch's own factors (a Darlington array's input resistor) reach the operating point only.
     out += [Factor(*f) for f in switch_kind(design.switch).factors(design.switch)]
     return out
 
 
-def worst_corners(design: Design) -> Corners:
-    all_factors = factors(design)
+def _extremes(all_factors: list[Factor]) -> tuple[dict[str, np.ndarray], int]:
+    """Every combination of the factors' extremes: one array per factor, and their length."""
     # A factor whose extremes coincide would double the corners and add nothing.
     varying = [f for f in all_factors if f.low != f.high]
     fixed = [f for f in all_factors if f.low == f.high]
@@ -89,7 +99,25 @@ def worst_corners(design: Design) -> Corners:
         values[factor.name] = np.where(bits[:, j] == 1, factor.high, factor.low).astype(float)
     for factor in fixed:
         values[factor.name] = np.full(size, factor.low, dtype=float)
+    return values, size
+
+
+def worst_corners(design: Design) -> Corners:
+    all_factors = factors(design)
+    values, size = _extremes(all_factors)
     return Corners(tuple(all_factors), values, size)
+
+
+def corners_at_rows(design: Design, base: Corners, rows: np.ndarray) -> Corners:
+    """Some of ``design``'s worst corners: the corners ``rows`` of ``base`` (the worst corners of a
+    design that differs from this one in its clamp alone), each combined with every combination
+    of the extremes of this design's clamp factors. Every corner here is one of the design's
+    worst corners, with the same values."""
+    circuit, clamp = circuit_factors(design), clamp_factors(design)
+    own, count = _extremes(clamp)
+    values = {f.name: np.tile(base.values[f.name][rows], count) for f in circuit}
+    values.update({name: np.repeat(array, len(rows)) for name, array in own.items()})
+    return Corners(tuple(circuit + clamp), values, len(rows) * count)
 
 
 def nominal_corner(design: Design) -> Corners:

@@ -644,6 +644,16 @@ class Limits(Model):
     cutoff: Fraction | None = None
 
 
+class MonteCarlo(Model):
+    """How the Monte Carlo yield draws each quantity the corners vary (app/engine/montecarlo.py)."""
+
+    distributions: dict[str, Literal["normal", "uniform"]] = Field(
+        default_factory=dict,
+        description="per varied quantity (supply, ambient, r_coil, r_series, …): normal (about the "
+        "middle, σ = tolerance/3, clipped) or uniform over its range; unnamed ones keep the default",
+    )
+
+
 class Design(Model):
     """One relay-driver design: a low-side switch (NPN, N-channel MOSFET or a Darlington array
     channel), coil, clamp, drive."""
@@ -673,6 +683,7 @@ class Design(Model):
     switching: Switching = Switching()
     requirements: Requirements = Requirements()
     limits: Limits = Limits()
+    monte_carlo: MonteCarlo | None = Field(None, description="how the Monte Carlo yield draws each quantity")
 
     model_config = ConfigDict(extra="forbid", frozen=True, populate_by_name=True)
 
@@ -691,6 +702,16 @@ class Design(Model):
         problems = kind.problems(self) + kind_of_clamp(self.clamp).problems(self)
         if problems:
             raise _problem("; ".join(problems))
+        if self.monte_carlo is not None and self.monte_carlo.distributions:
+            from .corners import factors
+
+            known = [f.name for f in factors(self)]
+            unknown = sorted(set(self.monte_carlo.distributions) - set(known))
+            if unknown:
+                raise _problem(
+                    f"monte_carlo.distributions: {', '.join(unknown)} is not a quantity this design "
+                    f"varies; allowed: {', '.join(known)}"
+                )
         return self
 
     @property

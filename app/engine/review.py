@@ -3,17 +3,20 @@ tests and the benchmarks call."""
 
 from __future__ import annotations
 
+import dataclasses
+from collections.abc import Iterable
+
 import numpy as np
 
 from . import ENGINE_VERSION
 from .circuit import operating_point
 from .clamps import DiodeClamp, DiodeZenerClamp, ResistorClamp, kind_of
-from .corners import nominal_corner, worst_corners
+from .corners import Corners, corners_at_rows, nominal_corner, worst_corners
 from .design import Design, Diode, Zener
 from .physics import THERMAL_VOLTAGE, DiodeModel
 from .profile import DEFAULT_PROFILE, Profile
 from .rules import RULES, STATUS_ORDER, Context, Finding
-from .transient import turn_off
+from .transient import TurnOff, turn_off
 from .units import format_si
 
 REPORT_FORMAT = "clampdown-report/1"
@@ -70,30 +73,32 @@ def _e24_below(x: float) -> float | None:
     return e24_at_most(x * 0.99)
 
 
-def _passes(design: Design, profile: Profile) -> tuple[bool, Context]:
-    """Whether a design passes the spike and every clamp rule at its worst corner."""
-    # The charge and energy integrals only matter to a rule with a switching rate to apply.
-    energies = design.switching.per_hour is not None
-    ctx = build_context(design, profile, alternatives=False, energies=energies)
-    return _passes_ctx(ctx), ctx
+def _clamp_rules() -> list:
+    """The rules an alternative clamp must pass: the spike and every clamp rule."""
+    return [r for r in RULES.values() if r.id == "switch.breakdown" or r.id.startswith("clamp.")]
 
 
-def _passes_ctx(ctx: Context) -> bool:
-    for registered in RULES.values():
+def _passes_ctx(ctx: Context, rules: list | None = None) -> bool:
+    for registered in rules if rules is not None else _clamp_rules():
         if not registered.applies_to(ctx.design):
             continue
-        if registered.id == "switch.breakdown" or registered.id.startswith("clamp."):
-            finding = registered.check(ctx)
-            if finding is not None and finding.status in ("violation", "marginal"):
-                return False
+        finding = registered.check(ctx)
+        if finding is not None and finding.status in ("violation", "marginal"):
+            return False
     return True
 
 
-def _alternatives(ctx: Context, profile: Profile) -> list[dict]:
+def _alternatives(ctx: Context) -> list[dict]:
     """Other clamps, for comparison: a plain diode, and the largest E24 zener (5 %) and E24
     resistor (5 %) that keep the worst spike within the derated V_(BR)CEO (the fastest release
     the switch allows). A suggestion is listed only when it passes the spike and every clamp
-    rule at the worst corner; its release time is given at the nominal and the slowest corner."""
+    rule at the worst corner; its release time is given at the nominal and the slowest corner.
+
+    Those rules and figures depend on a corner only through the supply, the coil's resistance and
+    current when on (its turn-off inputs) and the clamp's own factors, so an alternative is
+    evaluated at the design's corners with distinct turn-off inputs, each combined with every
+    extreme of the alternative's own factors: the same values as at all its corners, fewer times
+    (its worst values, and so its statuses, are the same)."""
     design = ctx.design
     diode_part = kind_of(design.clamp).diode(design.clamp) or _GENERIC_RECTIFIER
     diode = DiodeModel.from_part(diode_part)
@@ -138,14 +143,22 @@ def _alternatives(ctx: Context, profile: Profile) -> list[dict]:
         r = _e24_below(r)
     if resistors:
         tries.append(("resistor", resistors))
+    # The design's corners with distinct turn-off inputs outside the clamp.
+    rows, _ = distinct_rows([ctx.op.vcc, ctx.op.r_coil, ctx.op.coil_current])
+    energies = design.switching.per_hour is not None  # only a rule with a rate uses them
+    rules = _clamp_rules()
     out = []
     for _, options in tries:
         for option in options:
             label, clamp = option
             if clamp == design.clamp:  # the design's own clamp: already evaluated
-                ok, alt = _passes_ctx(ctx), ctx
+                alt = ctx
             else:
-                ok, alt = _passes(design.model_copy(update={"clamp": clamp}), profile)
+                other = design.model_copy(update={"clamp": clamp})
+                alt = context_at(
+                    other, ctx.profile, corners_at_rows(other, ctx.corners, rows), energies=energies
+                )
+            ok = _passes_ctx(alt, rules)
             if not ok:
                 continue
             t_nom = float(alt.turnoff_nominal.time_to_dropout[0])
@@ -163,23 +176,92 @@ def _alternatives(ctx: Context, profile: Profile) -> list[dict]:
     return out
 
 
-def build_context(
-    design: Design, profile: Profile = DEFAULT_PROFILE, *, alternatives: bool = True, energies: bool = True
-) -> Context:
-    given = profile
-    profile = profile.with_limits(design.limits)
-    corners = worst_corners(design)
+def distinct_rows(columns: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+    """(first, inverse): the index of the first row of each distinct row of the columns, and
+    for every row the number of its distinct row, so ``x[first][inverse]`` is ``x`` for any
+    per-row x computed from those columns alone. Rows are compared by their bytes: rows that
+    differ only by the sign of a zero or a NaN's payload are kept apart, never merged."""
+    table = np.ascontiguousarray(np.column_stack(columns), dtype=float)
+    keys = table.view(np.dtype((np.void, table.dtype.itemsize * table.shape[1]))).ravel()
+    _, first, inverse = np.unique(keys, return_index=True, return_inverse=True)
+    return first, inverse.reshape(-1)
+
+
+def turn_offs(
+    design: Design, corners: Corners, op, nominal_c: Corners, nom, *, energies: bool = True
+) -> tuple[TurnOff, TurnOff]:
+    """The turn-off at every worst-case corner and at the nominal corner, in one computation.
+
+    The turn-off of a corner depends only on the supply, the coil's resistance and current when
+    on, and the clamp's own corner factors (the drive's factors do not reach it), so most corners
+    share their turn-off with others (1 in 16 is distinct with a logic drive and a pull-down).
+    Each distinct corner is computed once, from the very same inputs, with the nominal corner as
+    one more row, and copied to the corners that share it: every figure is the one a
+    corner-by-corner computation gives, bit for bit (each row is computed on its own).
+    ``energies=False`` leaves the worst corners' charge and energies NaN (the nominal corner's
+    are always computed)."""
+    kind = kind_of(design.clamp)
+    names = [f[0] for f in kind.factors(design.clamp)]
+    first, inverse = distinct_rows([op.vcc, op.r_coil, op.coil_current, *(corners[n] for n in names)])
+    rows = first.size
+
+    def both(worst: np.ndarray, nominal: np.ndarray) -> np.ndarray:
+        return np.concatenate((worst[first], nominal))
+
+    if not energies:  # the nominal corner needs them: compute it apart
+        worst = _turn_off_at(
+            design, kind, op.vcc[first], {n: corners[n][first] for n in names}, op, first, False
+        )
+        nominal = _turn_off_at(design, kind, nom.vcc, {n: nominal_c[n] for n in names}, nom, None, True)
+        return _take(worst, inverse), nominal
+    path = kind.path(
+        design.clamp, design, both(op.vcc, nom.vcc), {n: both(corners[n], nominal_c[n]) for n in names}
+    )
+    to = turn_off(
+        path,
+        design.coil.inductance,
+        both(op.r_coil, nom.r_coil),
+        both(op.coil_current, nom.coil_current),
+        op.dropout_current,
+    )
+    return _take(to, inverse), _take(to, np.array([rows]))
+
+
+def _turn_off_at(design, kind, vcc, values, op, rows, energies) -> TurnOff:
+    path = kind.path(design.clamp, design, vcc, values)
+    r_coil = op.r_coil if rows is None else op.r_coil[rows]
+    current = op.coil_current if rows is None else op.coil_current[rows]
+    return turn_off(path, design.coil.inductance, r_coil, current, op.dropout_current, energies=energies)
+
+
+def _take(turnoff: TurnOff, rows: np.ndarray) -> TurnOff:
+    """Some rows of a turn-off, in the order given (rows may repeat)."""
+    return TurnOff(
+        **{
+            f.name: None if (x := getattr(turnoff, f.name)) is None else x[rows]
+            for f in dataclasses.fields(TurnOff)
+        }
+    )
+
+
+def context_at(design: Design, profile: Profile, corners: Corners, *, energies: bool = True) -> Context:
+    """The evaluation context over a given set of corners (``profile`` already holds the design's
+    limits); no alternatives."""
     nominal_c = nominal_corner(design)
     op = operating_point(design, corners, steady_state=False, assumed_coil_rise=profile.coil_rise)
     nom = operating_point(design, nominal_c, steady_state=True, assumed_coil_rise=profile.coil_rise)
     kind = kind_of(design.clamp)
     path = kind.path(design.clamp, design, op.vcc, corners.values)
     nominal_path = kind.path(design.clamp, design, nom.vcc, nominal_c.values)
-    inductance = design.coil.inductance
-    to = turn_off(path, inductance, op.r_coil, op.coil_current, op.dropout_current, energies=energies)
-    to_nom = turn_off(nominal_path, inductance, nom.r_coil, nom.coil_current, nom.dropout_current)
-    ctx = Context(design, profile, corners, op, nom, path, nominal_path, to, to_nom)
-    ctx.extras["alternatives"] = _alternatives(ctx, given) if alternatives else []
+    to, to_nom = turn_offs(design, corners, op, nominal_c, nom, energies=energies)
+    return Context(design, profile, corners, op, nom, path, nominal_path, to, to_nom)
+
+
+def build_context(
+    design: Design, profile: Profile = DEFAULT_PROFILE, *, alternatives: bool = True, energies: bool = True
+) -> Context:
+    ctx = context_at(design, profile.with_limits(design.limits), worst_corners(design), energies=energies)
+    ctx.extras["alternatives"] = _alternatives(ctx) if alternatives else []
     return ctx
 
 
@@ -202,8 +284,21 @@ def _num(x) -> float | None:
     return x if np.isfinite(x) else None
 
 
-def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE) -> dict:
-    """Evaluate every rule at its worst corner; return the report (format clampdown-report/1)."""
+def evaluate(
+    design: Design,
+    profile: Profile = DEFAULT_PROFILE,
+    *,
+    windows: bool = False,
+    tighten: bool = False,
+    samples: int | None = None,
+    seed: int = 1,
+) -> dict:
+    """Evaluate every rule at its worst corner; return the report (format clampdown-report/1).
+
+    Asked for, because each evaluates the design many times: ``windows`` adds ``windows``, the
+    design window of every value the designer chose (app/engine/window.py); ``tighten`` adds
+    ``tighten``, which tolerance moves each rule's margin (app/engine/tighten.py); ``samples``
+    adds ``yield``, the Monte Carlo yield of that many draws with ``seed`` (app/engine/montecarlo.py)."""
     ctx = build_context(design, profile)
     findings: list[Finding] = []
     for registered in RULES.values():
@@ -216,7 +311,7 @@ def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE) -> dict:
     if verdict == "note":
         verdict = "ok"
     nom, to = ctx.nominal, ctx.turnoff_nominal
-    return {
+    report = {
         "format": REPORT_FORMAT,
         "engine_version": ENGINE_VERSION,
         "design": design.name,
@@ -250,3 +345,26 @@ def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE) -> dict:
             "alternatives": ctx.extras["alternatives"],
         },
     }
+    if windows:
+        from .window import design_windows
+
+        report["windows"] = design_windows(design, profile)
+    if tighten:
+        from .tighten import what_to_tighten
+
+        report["tighten"] = what_to_tighten(design, profile, report)
+    if samples is not None:
+        from .montecarlo import monte_carlo
+
+        report["yield"] = monte_carlo(design, profile, samples, seed)
+    return report
+
+
+def evaluate_many(designs: Iterable[Design], profile: Profile = DEFAULT_PROFILE) -> list[dict]:
+    """Evaluate many designs with one profile in one call: their reports, in order.
+
+    For a batch in one process (a CI job, a script): the engine's import and set-up are paid
+    once, not once per design. Each report is exactly what ``evaluate(design, profile)`` gives;
+    the designs are evaluated one after another (each already evaluates all its corners at once).
+    """
+    return [evaluate(design, profile) for design in designs]

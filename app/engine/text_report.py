@@ -69,4 +69,18 @@ def render_table(report: dict) -> str:
             format_si(tr["energy"], "J"),
         )
     )
+    if report.get("windows") is not None:
+        from .window import describe
+
+        out += ["", "design window (every other value as designed; every rule within its derated limit):"]
+        out += [f"  {describe(w)}" for w in report["windows"]] or ["  no value to vary"]
+    if report.get("tighten") is not None:
+        from .tighten import tighten_lines
+
+        out += ["", "what to tighten (each tolerance halved in turn, the margin it moves):"]
+        out += [f"  {line}" for line in tighten_lines(report["tighten"])] or ["  no tolerance moves a margin"]
+    if report.get("yield") is not None:
+        from .montecarlo import yield_lines
+
+        out += ["", *yield_lines(report["yield"])]
     return "\n".join(out) + "\n"

@@ -176,6 +176,13 @@ def judge(
             if nonpositive.any():
                 over_rating = np.where(nonpositive, np.inf, over_rating)
                 over_limit = np.where(nonpositive, np.inf, over_limit)
+    per_corner = ctx.extras.get("per_corner")
+    if per_corner is not None:  # every corner's own outcome, for the Monte Carlo yield
+        # "not within" rather than "past": a value that cannot be judged (NaN) is never a pass.
+        past = (~(np.asarray(over_rating) <= 1), ~(np.asarray(over_limit) <= 1))
+        if rule_id in per_corner:  # a rule judged two ways: past either
+            past = (per_corner[rule_id][0] | past[0], per_corner[rule_id][1] | past[1])
+        per_corner[rule_id] = past
     worst_rating = int(np.argmax(over_rating))
     if over_rating[worst_rating] > 1:
         worst, status = worst_rating, "violation"

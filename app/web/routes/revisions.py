@@ -16,7 +16,7 @@ from ..services import findings_view, fixtures, record, revision_form, revisions
 from ..services.documents import canonical_json, load_json_file
 from ..services.errors import InputProblems
 from ..services.parts import search_parts
-from ..services.reports import evaluate_document
+from ..services.reports import WEB_MAX_SAMPLES, evaluate_document, tighten_for, windows_for, yield_for
 from ..templating import redirect_done, render
 from .pages import channel_context
 
@@ -43,6 +43,68 @@ def revision_page(request: Request, db: DB, user: Viewer, revision_id: int, sort
         request.app.state.fragments.put(key, cached)
     title, body = cached
     return render(request, "revision.html", title=title, body=body)
+
+
+@router.get("/revisions/{revision_id}/tighten")
+def tighten_page(request: Request, db: DB, user: Viewer, revision_id: int):
+    """Which tolerance moves each rule's margin, and by how much when halved."""
+    view = revisions.revision_view(db, revision_id)
+    entries = tighten_for(db, view.revision)
+    return render(
+        request,
+        "tighten.html",
+        title=f"{view.channel.name} rev {view.revision.label}: what to tighten",
+        view=view,
+        entries=entries,
+    )
+
+
+@router.get("/revisions/{revision_id}/yield")
+def yield_page(
+    request: Request, db: DB, user: Viewer, revision_id: int, samples: int = 10_000, seed: int = 1
+):
+    """The Monte Carlo yield, on demand: kept per content, profile version, engine, samples, seed."""
+    view = revisions.revision_view(db, revision_id)
+    r = view.revision
+    key = ("yield", r.content_hash, r.profile_version_id, ENGINE_VERSION, samples, seed)
+    result = request.app.state.fragments.get(key)
+    if result is None:
+        result = yield_for(db, r, samples, seed)
+        request.app.state.fragments.put(key, result)
+    return render(
+        request,
+        "yield.html",
+        title=f"{view.channel.name} rev {r.label}: Monte Carlo yield",
+        view=view,
+        result=result,
+        max_samples=WEB_MAX_SAMPLES,
+    )
+
+
+@router.get("/revisions/{revision_id}/windows")
+def revision_windows(request: Request, db: DB, user: Viewer, revision_id: int):
+    """The design window, asked for from the revision page: the partial for htmx, else a page.
+    It depends on the content, the profile version and the engine alone, so it is kept by them."""
+    revision = revisions.get_revision(db, revision_id)
+    key = ("windows", revision.content_hash, revision.profile_version_id, ENGINE_VERSION)
+    body = request.app.state.fragments.get(key)
+    if body is None:
+        windows = windows_for(db, revision)
+        body = Markup(
+            request.app.state.templates.get_template("partials/_windows.html").render(windows=windows)
+        )
+        request.app.state.fragments.put(key, body)
+    if request.headers.get("HX-Request"):
+        return render(request, "partials/_fragment.html", body=body)
+    channel = fixtures.get_channel(db, revision.channel_id)
+    return render(
+        request,
+        "revision_windows.html",
+        title=f"{channel.name} rev {revision.label}: design window",
+        revision=revision,
+        channel=channel,
+        body=body,
+    )
 
 
 @router.get("/revisions/{revision_id}/design.json")
