@@ -69,6 +69,11 @@ def test_form_saves_a_mosfet_revision_judged_by_the_gate_rules(designer, world):
     record = designer.get(f"/revisions/{new_id}/record")
     assert record.status_code == 200
     assert "Gate enhancement when on" in record.text and "V_(BR)DSS" in record.text
+    # The on-demand analyses run for a MOSFET too: its gate resistor has a design window
+    windows = designer.get(f"/revisions/{new_id}/windows")
+    assert windows.status_code == 200 and "Gate resistor" in windows.text
+    assert designer.get(f"/revisions/{new_id}/tighten").status_code == 200
+    assert designer.get(f"/revisions/{new_id}/yield", params={"samples": 200}).status_code == 200
     compare = designer.get(
         f"/channels/{channel_id(world, K2)}/compare", params={"old": before[-1], "new": new_id}
     )
