@@ -281,11 +281,14 @@ def _schema(args: argparse.Namespace) -> int:
 def _netlist(args: argparse.Namespace) -> int:
     from .engine.clamps import kind_of
     from .engine.netlist import netlist
+    from .engine.switches import switch_kind
 
     design = load_design_file(args.file)
-    if kind_of(design.clamp).unclamped:
+    clamp = kind_of(design.clamp)
+    if clamp.is_unclamped(design.clamp) and not switch_kind(design.switch).simulates_avalanche:
+        what = '"none"' if clamp.unclamped else f'"{clamp.kind}" (clamp.common_to "unconnected")'
         raise InputError.about(
-            args.file, [("clamp.kind", '"none" has no finite turn-off to simulate; add a clamp')]
+            args.file, [("clamp.kind", f"{what} has no finite turn-off to simulate; add a clamp")]
         )
     text = netlist(design, args.corner)
     if args.output:

@@ -80,6 +80,8 @@ def _clamp_rules() -> list:
 
 def _passes_ctx(ctx: Context, rules: list | None = None) -> bool:
     for registered in rules if rules is not None else _clamp_rules():
+        if not registered.applies_to(ctx.design):
+            continue
         finding = registered.check(ctx)
         if finding is not None and finding.status in ("violation", "marginal"):
             return False
@@ -101,7 +103,7 @@ def _alternatives(ctx: Context) -> list[dict]:
     diode_part = kind_of(design.clamp).diode(design.clamp) or _GENERIC_RECTIFIER
     diode = DiodeModel.from_part(diode_part)
     i0_worst = float(np.max(ctx.turnoff.initial_current))
-    limit = ctx.profile.voltage * design.switch.vceo
+    limit = ctx.profile.voltage * ctx.switch.breakdown(design.switch)
     v_budget = limit - design.supply.high
     tries: list[tuple[str, list]] = [("diode", [("diode", DiodeClamp(kind="diode", diode=diode_part))])]
     # Zener: V_Z(1 + tol) + V_T·ln(I_0/I_ZT) + (I_0 − I_ZT)·r_Z + V_F(I_0) within the budget.
@@ -305,6 +307,8 @@ def evaluate(
     ctx = build_context(design, profile)
     findings: list[Finding] = []
     for registered in RULES.values():
+        if not registered.applies_to(design):
+            continue
         finding = registered.check(ctx)
         if finding is not None:
             findings.append(finding)

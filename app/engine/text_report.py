@@ -39,15 +39,25 @@ def render_table(report: dict) -> str:
                 out.append(f"{'':>9}  worked: {f['worked']}")
     nom, tr = report["nominal"], report["transient"]
     out.append("")
-    out.append(
-        "nominal: I_C {} , I_B {}, overdrive {}, coil {}, T_J {}".format(
-            format_si(nom["collector_current"], "A"),
-            format_si(nom["base_current"], "A"),
-            format_si(nom["overdrive"], "×"),
-            format_si(nom["coil_voltage"], "V"),
-            format_si(nom["junction_temp"], "°C"),
+    if any(f["rule"].startswith("gate.") for f in report["findings"]):  # a MOSFET
+        out.append(
+            "nominal: I_D {}, gate current {}, coil {}, T_J {}".format(
+                format_si(nom["collector_current"], "A"),
+                format_si(nom["base_current"], "A"),
+                format_si(nom["coil_voltage"], "V"),
+                format_si(nom["junction_temp"], "°C"),
+            )
         )
-    )
+    else:
+        out.append(
+            "nominal: I_C {} , I_B {}, overdrive {}, coil {}, T_J {}".format(
+                format_si(nom["collector_current"], "A"),
+                format_si(nom["base_current"], "A"),
+                format_si(nom["overdrive"], "×"),
+                format_si(nom["coil_voltage"], "V"),
+                format_si(nom["junction_temp"], "°C"),
+            )
+        )
     out.append(
         "turn-off ({}): I_0 {}, peak {}, drop-out after {}, energy {}".format(
             tr["clamp"],

@@ -104,6 +104,14 @@ class ClampKind:
     fields: ClassVar[tuple[FormSlot, ...]] = ()
     unclamped: ClassVar[bool] = False
 
+    def is_unclamped(self, clamp: Any) -> bool:
+        """Whether this clamp leaves the switch to avalanche (no clamp at all)."""
+        return self.unclamped
+
+    def problems(self, design: Design) -> list[str]:
+        """Whatever makes this clamp unusable with this design's switch (field path first)."""
+        return []
+
     # ---------------------------------------------------------------- corners
 
     def factors(self, clamp: Any) -> list[tuple[str, float, float, str]]:

@@ -34,7 +34,8 @@ def clamp_reverse(ctx: Context) -> Finding | None:
     diode = ctx.clamp.diode(ctx.design.clamp)
     if diode is None:
         return None
-    v = ctx.op.vcc - ctx.design.switch.vce_sat_low  # lowest V_CE(sat) (vce_sat_min, else 0 V)
+    # The lowest on-voltage of the switch (vce_sat_min, else 0 V; 0 V for a MOSFET).
+    v = ctx.op.vcc - ctx.switch.on_voltage_low(ctx.design.switch)
     return judge(
         ctx,
         "clamp.reverse_voltage",
@@ -45,7 +46,8 @@ def clamp_reverse(ctx: Context) -> Finding | None:
         keep_below=True,
         message=lambda i, s: f"{_si(v[i], 'V')} reverse on a {_si(diode.vrrm, 'V')} diode",
         worked=lambda i: (
-            f"V_R = V_cc,max − V_CE(sat),min = {_n(ctx.op.vcc[i], 'V')} − {_n(ctx.design.switch.vce_sat_low, 'V')}"
+            f"V_R = V_cc,max − {ctx.switch.on_voltage_symbol} = {_n(ctx.op.vcc[i], 'V')} − "
+            f"{_n(ctx.switch.on_voltage_low(ctx.design.switch), 'V')}"
             f" = {_n(v[i], 'V')}"
         ),
     )
@@ -88,8 +90,8 @@ def clamp_peak(ctx: Context) -> Finding | None:
         keep_below=True,
         message=lambda i, s: f"{_si(i0[i], 'A')} at every turn-off, rated {_si(rating, 'A')} {what}{surge}",
         worked=lambda i: (
-            f"I_peak = I_0 = (V_cc − V_CE(sat),min)/R_coil = ({_n(ctx.op.vcc[i], 'V')} − "
-            f"{_n(ctx.design.switch.vce_sat_low, 'V')})/{_n(ctx.op.r_coil[i], 'Ω')} = {_n(i0[i], 'A')}"
+            f"I_peak = I_0 = (V_cc − {ctx.switch.on_voltage_symbol})/R_coil = ({_n(ctx.op.vcc[i], 'V')} − "
+            f"{_n(ctx.switch.on_voltage_low(ctx.design.switch), 'V')})/{_n(ctx.op.r_coil[i], 'Ω')} = {_n(i0[i], 'A')}"
         ),
     )
 
@@ -142,7 +144,7 @@ def clamp_energy(ctx: Context) -> Finding:
         text += f"; with {_si(added, 'J')} from {source}, {_si(total, 'J')} is dissipated"
     if ctx.path.unclamped:
         text += (
-            f"; no clamp: {share:.0%} of it ({_si(absorbed, 'J')}, at least V_(BR)CEO·Q) goes into the switch "
+            f"; no clamp: {share:.0%} of it ({_si(absorbed, 'J')}, at least {ctx.switch.breakdown_symbol}·Q) goes into the switch "
             "as avalanche energy at every turn-off"
         )
     else:

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 
 from .core import Context, Finding, _n, _si, judge, note, rule
@@ -15,7 +17,9 @@ def pickup(ctx: Context) -> Finding:
     the ambient plus self-heating at the highest supply (V_cc,max − V_CE(sat),min): from the coil's
     R_th, else from its temperature rise ΔT at nominal voltage (R_th = ΔT·R_hot/V_nom²), else from
     the derating profile's assumed rise (from memory), which the finding then says.
-    Limit: must-operate × (1 + pick-up margin)."""
+    Limit: must-operate × (1 + pick-up margin). A MOSFET: V_coil = V_cc·R_coil/(R_coil + R_DS(on)(T_J)),
+    0 V where V_GS stays below V_GS(th),max (it need not conduct); where V_GS is below the gate
+    voltage R_DS(on) is guaranteed at, the result is at best marginal (R_DS(on) is not known there)."""
     op = ctx.op
     rating = op.must_operate_hot
     if op.coil_heating == "rth":
@@ -29,7 +33,7 @@ def pickup(ctx: Context) -> Finding:
         )
     else:
         heating = "no self-heating"
-    return judge(
+    finding = judge(
         ctx,
         "coil.pickup",
         op.coil_voltage_hot,
@@ -39,9 +43,33 @@ def pickup(ctx: Context) -> Finding:
         keep_below=False,
         message=lambda i, s: (
             f"{_si(op.coil_voltage_hot[i], 'V')} on the coil at {op.coil_temp_hot[i]:.0f} °C, must-operate {_si(rating[i], 'V')} there; {heating}"
+            + _gate_text(ctx, i)
         ),
         hot_coil=True,
         worked=lambda i: _worked_pickup(ctx, i),
+    )
+    guaranteed = op.switch.get("guaranteed")
+    if guaranteed is not None and finding.status == "ok" and not np.all(guaranteed):
+        # A MOSFET below the gate voltage its R_DS(on) is guaranteed at: the coil voltage above
+        # assumes the rated R_DS(on), which this gate voltage does not promise.
+        i = int(np.argmin(guaranteed))
+        return replace(
+            finding,
+            status="marginal",
+            message=finding.message
+            + f"; at {_si(op.switch['vgs_on'][i], 'V')} on the gate R_DS(on) is not guaranteed "
+            f"(rated at {_si(ctx.design.switch.rds_on_vgs, 'V')}): this coil voltage assumes it",
+        )
+    return finding
+
+
+def _gate_text(ctx: Context, i: int) -> str:
+    conducts = ctx.op.switch.get("conducts")
+    if conducts is None or conducts[i]:
+        return ""
+    return (
+        f"; V_GS {_si(ctx.op.switch['vgs_on'][i], 'V')} is below V_GS(th),max "
+        f"{_si(ctx.op.switch['vth_max_cold'][i], 'V')} there: the FET need not conduct at all"
     )
 
 
@@ -52,6 +80,19 @@ def _worked_pickup(ctx: Context, i: int) -> str:
         f"must-operate V_pu(T) = V_pu·R(T)/R(T_ref) = {_n(coil.v_pickup, 'V')}·{_n(op.r_coil_hot[i], 'Ω')}/"
         f"{_n(r_ref, 'Ω')} = {_n(op.must_operate_hot[i], 'V')} at {_n(op.coil_temp_hot[i], '°C')}"
     )
+    if sw.kind == "nmos":
+        if not op.switch["conducts"][i]:
+            value = (
+                f"V_GS {_n(op.switch['vgs_on'][i], 'V')} below V_GS(th),max {_n(op.switch['vth_max_cold'][i], 'V')}: "
+                f"the FET need not conduct, V_coil = {_n(op.coil_voltage_hot[i], 'V')}"
+            )
+        else:
+            r_load = op.switch["r_hot_load"][i]
+            value = (
+                f"V_coil = V_cc·R_load(T)/(R_load(T) + R_DS(on)(T_J)) = {_n(op.vcc[i], 'V')}·{_n(r_load, 'Ω')}/"
+                f"({_n(r_load, 'Ω')} + {_n(op.switch['rds'][i], 'Ω')}) = {_n(op.coil_voltage_hot[i], 'V')}"
+            )
+        return f"{rating}; {value}"
     saturated = op.vcc[i] - sw.vce_sat
     if op.coil_voltage_hot[i] < saturated:
         value = (
@@ -84,7 +125,8 @@ def overvoltage(ctx: Context) -> Finding:
             f"{_si(op.coil_voltage[i], 'V')} on a coil rated {_si(coil.v_max, 'V')} continuous"
         ),
         worked=lambda i: (
-            f"V_coil = V_cc,max − V_CE(sat),min = {_n(op.vcc[i], 'V')} − {_n(ctx.design.switch.vce_sat_low, 'V')}"
+            f"V_coil = V_cc,max − {ctx.switch.on_voltage_symbol} = {_n(op.vcc[i], 'V')} − "
+            f"{_n(ctx.switch.on_voltage_low(ctx.design.switch), 'V')}"
             f" = {_n(op.coil_voltage[i], 'V')}"
         ),
     )
@@ -113,11 +155,11 @@ def release(ctx: Context) -> Finding:
         f"; alternatives passing the clamp rules at the worst corner, at nominal: {alt})" if alt else ")"
     )
     if ctx.path.unclamped:
-        suffix = " — unclamped: an upper bound, with the node held at V_(BR)CEO" + suffix
+        suffix = f" — unclamped: an upper bound, with the node held at {ctx.switch.breakdown_symbol}" + suffix
     to, coil = ctx.turnoff, ctx.design.coil
 
     clamp_voltage = (
-        "v_c = V_(BR)CEO − V_cc, the node held at breakdown"
+        f"v_c = {ctx.switch.breakdown_symbol} − V_cc, the node held at breakdown"
         if ctx.path.unclamped
         else f"v_c(i) of the clamp ({ctx.clamp.title})"
     )

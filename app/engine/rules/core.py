@@ -19,6 +19,7 @@ from ..clamps import ClampKind, ClampPath, kind_of
 from ..corners import Corners
 from ..design import Design
 from ..profile import Profile
+from ..switches import SwitchKind, switch_kind
 from ..transient import TurnOff
 from ..units import format_si
 
@@ -80,24 +81,36 @@ class Context:
         """The registry entry of the design's clamp kind (its ratings hooks)."""
         return kind_of(self.design.clamp)
 
+    @property
+    def switch(self) -> SwitchKind:
+        """The registry entry of the design's switch kind (its ratings)."""
+        return switch_kind(self.design.switch)
+
 
 @dataclass(frozen=True)
 class Rule:
     id: str
     title: str
     check: Callable[[Context], Finding | None]
+    # The switch kinds the rule makes sense for (app/engine/switches/); None: every kind.
+    kinds: tuple[str, ...] | None = None
 
     @property
     def formula(self) -> str:
         return inspect.cleandoc(self.check.__doc__ or "")
 
+    def applies_to(self, design: Design) -> bool:
+        return self.kinds is None or design.switch.kind in self.kinds
+
 
 RULES: dict[str, Rule] = {}
 
 
-def rule(rule_id: str, title: str):
+def rule(rule_id: str, title: str, *, kinds: tuple[str, ...] | None = None):
+    """Register a rule; ``kinds`` names the switch kinds it applies to (skipped for the others)."""
+
     def register(check: Callable[[Context], Finding | None]):
-        RULES[rule_id] = Rule(rule_id, title, check)
+        RULES[rule_id] = Rule(rule_id, title, check, kinds)
         return check
 
     return register
