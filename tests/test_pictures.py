@@ -202,3 +202,25 @@ def test_cli_draw_refuses_bad_input_with_exit_2(tmp_path):
     a_file.write_text("x", encoding="utf-8")
     done = _cli("draw", str(ROOT / "seed_data/examples/tank-level-relay.json"), "-o", str(a_file))
     assert done.returncode == 2 and "give a folder" in done.stderr
+
+
+def _generated(kind: str, n: int) -> dict:
+    import importlib.util
+    import random
+
+    spec = importlib.util.spec_from_file_location("designgen", ROOT / "tests" / "designgen.py")
+    designgen = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(designgen)
+    return designgen.random_design(random.Random(f"pictures/{kind}/{n}"), kind)
+
+
+@pytest.mark.parametrize("kind", CLAMP_KINDS)
+def test_generated_designs_of_every_kind_draw_well_formed_pictures(kind):
+    """Seeded random designs (either drive, any values the design file allows in plausible
+    ranges): every picture is well-formed SVG with its caption, whatever the verdict."""
+    for n in range(2):
+        pictures = draw(parse_design(_generated(kind, n)))
+        assert list(pictures) == ["schematic", "turnoff", "margins"]
+        for picture in pictures.values():
+            svg_text(picture.svg)
+            assert picture.caption

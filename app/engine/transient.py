@@ -164,9 +164,12 @@ def integral_waveform(
     switch node at V_cc + v_c(i) (for a clamp to ground v_c = v_device − V_cc, so the node is at
     the device's voltage)."""
     i0, ido = float(initial_current), float(dropout_current)
-    lower = min(ido, i0)
+    if not i0 > ido:  # never picked up (or nothing flowing): nothing to release
+        return Waveform(np.array([0.0]), np.array([i0]), np.array([float(path.vcc[0])]), 0.0)
     # Where the current sits below the clamp's threshold nothing drives it down.
-    rate = r_coil * lower + float(path.loop_voltage(np.array([[lower]]))[0, 0])
+    lower = ido
+    with np.errstate(divide="ignore", invalid="ignore"):
+        rate = r_coil * lower + float(path.loop_voltage(np.array([[lower]]))[0, 0])
     if not rate > 0:
         return Waveform(np.array([]), np.array([]), np.array([]), float("inf"), decays=False)
     # Denser near I_0, where the clamp voltage changes the slope most, and near I_do.
