@@ -13,6 +13,8 @@ The drive, the switch and the clamp are each drawn by one function per kind, loo
 from __future__ import annotations
 
 import html
+import re
+import textwrap
 import threading
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -30,6 +32,9 @@ _LOCK = threading.Lock()
 FONT_SIZE = 11
 CLAMP_X = 8.0  # how far right of the coil the clamp branch runs
 COIL_HEIGHT = 6.0
+LABEL_WIDTH = 30  # characters per label line: the coil's label must end before the clamp
+# Room around the drawing: schemdraw sizes it from estimated text widths, a browser's font may be wider.
+MARGIN = 1.5
 
 
 def text(value: str) -> str:
@@ -61,11 +66,18 @@ class Nodes:
     ground_y: float = 0.0
 
 
+def wrapped(words: str, width: int = LABEL_WIDTH) -> str:
+    """Each line of a label folded at ``width`` characters, so a long part name stays in its
+    own column of the drawing. A number stays with its unit (a no-break space between them)."""
+    lines = (re.sub(r"(?<=\d) (?=\S)", "\u00a0", line) for line in words.split("\n"))
+    return "\n".join(textwrap.fill(line, width) or line for line in lines)
+
+
 def note(
     d: schemdraw.Drawing, xy: tuple[float, float], words: str, halign: str = "left", valign: str = "center"
 ):
     """A label at a fixed place (labels are placed by hand so they never cross a wire)."""
-    d.add(elm.Label().at(xy).label(text(words), halign=halign, valign=valign))
+    d.add(elm.Label().at(xy).label(text(wrapped(words)), halign=halign, valign=valign))
 
 
 # ---------------------------------------------------------------- switches
@@ -308,7 +320,7 @@ def schematic_svg(design: Design) -> str:
         raise ValueError(f"clamp.kind: no drawing for {design.clamp.kind!r}")
     with _LOCK:
         d = schemdraw.Drawing(canvas="svg", show=False)
-        d.config(fontsize=FONT_SIZE)
+        d.config(fontsize=FONT_SIZE, margin=MARGIN)
         top = (0.0, 0.0)
         d.add(elm.Vdd().at(top).label(text(supply_text(design)), loc="top"))
         coil = d.add(elm.Inductor2(loops=4).at(top).down(COIL_HEIGHT))

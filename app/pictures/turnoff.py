@@ -21,7 +21,11 @@ from app.engine.rules import Context
 from app.engine.transient import Waveform
 from app.engine.units import format_si
 
-from .plotting import BLACK, BLUE, LINE_STYLES, VERMILION, new_figure, plain, render, time_scale
+from .plotting import BLACK, LINE_STYLES, VERMILION, new_figure, plain, render, time_scale
+
+# The rating and the derated limit: grey, labelled, drawn across the whole chart, so no curve
+# style (colour or dash) is mistaken for them.
+LIMIT = "#5a5a5a"
 
 
 @dataclass(frozen=True)
@@ -143,7 +147,7 @@ def caption(data: TurnOffData) -> str:
 
 
 def _draw(data: TurnOffData):
-    figure = new_figure(7.4, 5.4)
+    figure = new_figure(7.4, 6.4)
     top, bottom = figure.subplots(2, 1, sharex=True)
     t_max = max((float(c.waveform.time[-1]) for c in data.curves if len(c.waveform.time)), default=1e-3)
     scale, unit = time_scale(t_max)
@@ -173,24 +177,24 @@ def _draw(data: TurnOffData):
     top.axhline(data.dropout_current * 1e3, color=BLACK, linestyle=(0, (2, 3)), linewidth=1)
     top.annotate(
         plain(f"drop-out {format_si(data.dropout_current, 'A')}"),
-        (1.0, data.dropout_current * 1e3),
+        (0.01, data.dropout_current * 1e3),
         xycoords=("axes fraction", "data"),
-        ha="right",
+        ha="left",
         va="bottom",
         fontsize=8,
     )
     top.set_ylabel("coil current (mA)")
     top.set_title("Coil current after the switch opens (markers: release at drop-out)")
-    top.legend(loc="upper right", frameon=True, framealpha=0.9)
-    bottom.axhline(data.breakdown, color=VERMILION, linestyle="-", linewidth=1.2)
-    bottom.axhline(data.derated, color=BLUE, linestyle=(0, (5, 3)), linewidth=1.2)
+    figure.legend(loc="outside lower center", ncols=1, frameon=False)
+    bottom.axhline(data.breakdown, color=LIMIT, linestyle="-", linewidth=1.4)
+    bottom.axhline(data.derated, color=LIMIT, linestyle=(0, (3, 1.5)), linewidth=1.4)
     bottom.annotate(
         plain(f"V(BR)CEO rating {format_si(data.breakdown, 'V')}"),
         (0.01, data.breakdown),
         xycoords=("axes fraction", "data"),
         va="bottom",
         fontsize=8,
-        color=VERMILION,
+        color=LIMIT,
     )
     bottom.annotate(
         plain(f"derated limit {format_si(data.derated, 'V')} ({data.derating * 100:g} %)"),
@@ -198,7 +202,7 @@ def _draw(data: TurnOffData):
         xycoords=("axes fraction", "data"),
         va="top",
         fontsize=8,
-        color=BLUE,
+        color=LIMIT,
     )
     if data.unclamped:
         bottom.axhspan(
