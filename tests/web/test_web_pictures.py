@@ -124,3 +124,30 @@ def test_preview_with_a_bad_value_shows_no_pictures(designer, world):
     ).text
     assert "data:image/svg+xml" not in page
     assert "base.r_series" in page
+
+
+def test_pdf_download_carries_the_pictures(reviewer, world, tmp_path):
+    import shutil
+    import subprocess
+
+    from app.web.services import record
+
+    if not record.pdf_available() or shutil.which("pdftotext") is None:
+        pytest.skip("needs WeasyPrint (pip install '.[pdf]', with Pango) and pdftotext (poppler-utils)")
+    rev = revision_ids(world, K2)[-1]
+    answer = reviewer.get(f"/revisions/{rev}/record.pdf")
+    assert answer.status_code == 200 and answer.content.startswith(b"%PDF")
+    pdf = tmp_path / "record.pdf"
+    pdf.write_bytes(answer.content)
+    text = " ".join(
+        subprocess.run(
+            ["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True
+        ).stdout.split()
+    )
+    assert (
+        "The stage as designed." in text
+        and "Turn-off over time." in text
+        and "Margins over temperature." in text
+    )
+    # The drawings themselves, as vector text in the PDF: a label of the schematic and of each chart.
+    assert "R_b" in text and "V(BR)CEO rating" in text and "derated limit" in text
