@@ -216,6 +216,8 @@ def main() -> None:
         for name, path in (
             ("trivial", "/healthz"),
             ("revision page", f"/revisions/{revision_id}"),
+            # One of its pictures, as the browser fetches it after the page (drawn once, kept).
+            ("its turn-off svg", f"/revisions/{revision_id}/pictures/turnoff.svg"),
             ("home page", "/"),
         ):
             measure(base + path, cookie, 2, args.connections)  # warm up

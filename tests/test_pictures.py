@@ -192,6 +192,14 @@ def test_cli_draw_writes_three_svg_files(tmp_path):
         assert str(path) in done.stdout
 
 
+def test_cli_draw_only_writes_the_pictures_asked_for(tmp_path):
+    done = _cli("draw", str(ROOT / "seed_data/examples/unclamped-valve.json"), "-o", str(tmp_path), "--only",
+                "turnoff", "--name", "valve")  # fmt: skip
+    assert done.returncode == 0, done.stderr
+    assert [p.name for p in tmp_path.iterdir()] == ["valve-turnoff.svg"]
+    assert "not a rated event" in done.stdout
+
+
 def test_cli_draw_refuses_bad_input_with_exit_2(tmp_path):
     bad = tmp_path / "bad.json"
     bad.write_text('{"format": "clampdown-design/1", "name": "x"}', encoding="utf-8")

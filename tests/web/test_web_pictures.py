@@ -151,3 +151,30 @@ def test_pdf_download_carries_the_pictures(reviewer, world, tmp_path):
     )
     # The drawings themselves, as vector text in the PDF: a label of the schematic and of each chart.
     assert "R_b" in text and "V(BR)CEO rating" in text and "derated limit" in text
+
+
+def test_the_store_draws_again_for_other_content_and_keeps_a_bounded_number(_fresh_store, world):
+    """The picture cache's key holds the content hash (and the engine version and profile):
+    new content is drawn anew, the same content is not; the oldest entries leave first."""
+    from types import SimpleNamespace
+
+    from app.web.services.documents import content_hash
+
+    from .conftest import latest_document
+
+    store = pictures.PictureStore(size=2)
+    documents = [latest_document(world, K2)]
+    documents.append({**documents[0], "name": "another name"})
+    documents.append({**documents[0], "name": "a third name"})
+    revs = [
+        SimpleNamespace(content_hash=content_hash(d), document=d, profile_version_id=None) for d in documents
+    ]
+    which = ("schematic",)
+    first = pictures.for_revision(None, revs[0], store, which)
+    assert pictures.for_revision(None, revs[0], store, which) is first
+    assert len(_fresh_store) == 1
+    pictures.for_revision(None, revs[1], store, which)
+    assert len(_fresh_store) == 2
+    pictures.for_revision(None, revs[2], store, which)  # the first one leaves
+    pictures.for_revision(None, revs[0], store, which)
+    assert len(_fresh_store) == 4

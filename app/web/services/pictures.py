@@ -47,16 +47,18 @@ class PictureStore:
             return found
         with self._guard:
             lock = self._drawing.setdefault(key, threading.Lock())
-        with lock:
-            found = self._items.get(key)
-            if found is None:
-                found = make()
-                with self._guard:
-                    self._items[key] = found
-                    while len(self._items) > self.size:
-                        self._items.popitem(last=False)
-        with self._guard:
-            self._drawing.pop(key, None)
+        try:
+            with lock:
+                found = self._items.get(key)
+                if found is None:
+                    found = make()
+                    with self._guard:
+                        self._items[key] = found
+                        while len(self._items) > self.size:
+                            self._items.popitem(last=False)
+        finally:
+            with self._guard:
+                self._drawing.pop(key, None)
         return found
 
 
