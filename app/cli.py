@@ -155,7 +155,10 @@ def _draw(args: argparse.Namespace) -> int:
     which = tuple(args.only) if args.only else tuple(NAMES)
     for name, picture in draw(design, profile, which).items():
         path = folder / f"{stem}-{name}.svg"
-        path.write_text(picture.svg, encoding="utf-8")
+        try:
+            path.write_text(picture.svg, encoding="utf-8")
+        except OSError as exc:
+            raise InputError.about(str(path), [("", f"cannot be written ({exc.strerror})")]) from None
         print(f"{path}: {picture.title}. {picture.caption}")
     return 0
 

@@ -137,7 +137,7 @@ def _clamp_resistor(clamp, name: str = "R_s"):
     return elm.Resistor(), f"{name} {format_si(clamp.r, 'Ω')} {tol(clamp.tolerance)}{rating}"
 
 
-def draw_no_clamp(d, design, nodes):
+def draw_no_clamp(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
     x = nodes.supply[0] + CLAMP_X
     note(
         d,
@@ -146,11 +146,11 @@ def draw_no_clamp(d, design, nodes):
     )
 
 
-def draw_diode(d, design, nodes):
+def draw_diode(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
     _across_coil(d, nodes, [_diode(design)])
 
 
-def draw_diode_zener(d, design, nodes):
+def draw_diode_zener(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
     z = design.clamp.zener
     zener = (
         elm.Zener().reverse(),
@@ -159,15 +159,15 @@ def draw_diode_zener(d, design, nodes):
     _across_coil(d, nodes, [_diode(design), zener])
 
 
-def draw_diode_resistor(d, design, nodes):
+def draw_diode_resistor(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
     _across_coil(d, nodes, [_diode(design), _clamp_resistor(design.clamp)])
 
 
-def draw_resistor(d, design, nodes):
+def draw_resistor(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
     _across_coil(d, nodes, [_clamp_resistor(design.clamp, "R_p")])
 
 
-def draw_rc(d, design, nodes):
+def draw_rc(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
     c = design.clamp
     cap = (
         elm.Capacitor(),
@@ -176,7 +176,7 @@ def draw_rc(d, design, nodes):
     _across_coil(d, nodes, [_clamp_resistor(c), cap])
 
 
-def draw_tvs(d, design, nodes):
+def draw_tvs(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
     """A TVS from the switch node to ground, right of the switch."""
     t = design.clamp.tvs
     x = nodes.supply[0] + CLAMP_X
