@@ -50,11 +50,12 @@ def revision_picture(request: Request, db: DB, user: Viewer, revision_id: int, n
     """One picture of the revision as SVG. A draft's document can be replaced under the same id,
     so the browser revalidates every time (no-cache) against an ETag of what it was drawn from."""
     revision = revisions.get_revision(db, revision_id)
-    drawn = pictures.picture(db, revision, request.app.state.pictures, name)
+    pictures.check_name(name)
     tag = f'"{revision.content_hash[:20]}-{ENGINE_VERSION}-{revision.profile_version_id or 0}-{name}"'
     headers = {"ETag": tag, "Cache-Control": "private, no-cache"}
-    if request.headers.get("if-none-match") == tag:
+    if request.headers.get("if-none-match") == tag:  # the browser has it: nothing to draw or send
         return Response(status_code=304, headers=headers)
+    drawn = pictures.picture(db, revision, request.app.state.pictures, name)
     return Response(drawn.svg, media_type="image/svg+xml", headers=headers)
 
 

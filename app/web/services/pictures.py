@@ -90,9 +90,13 @@ def for_document(document: dict, store: PictureStore, which: tuple[str, ...] = P
     return store.get_or_draw(key, lambda: draw(_design(document), which=which))
 
 
-def picture(db: Session, revision, store: PictureStore, name: str) -> Picture:
+def check_name(name: str) -> None:
     if name not in NAMES:
         raise NotFound(f"picture {name!r}; there are {', '.join(NAMES)}")
+
+
+def picture(db: Session, revision, store: PictureStore, name: str) -> Picture:
+    check_name(name)
     return for_revision(db, revision, store)[name]
 
 
