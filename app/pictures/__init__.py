@@ -8,7 +8,8 @@ the sign-off's margin, never the other way round.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import threading
+from collections.abc import Callable
 
 from app.engine.clamps import kind_of
 from app.engine.design import Design
@@ -30,12 +31,30 @@ NAMES = {
 }
 
 
-@dataclass(frozen=True)
 class Picture:
-    name: str  # one of NAMES
-    title: str
-    svg: str
-    caption: str
+    """One picture: its caption is worked out at once (the engine's numbers, milliseconds), its
+    SVG drawn the first time it is asked for (the plotting takes most of a second) and kept."""
+
+    def __init__(self, name: str, title: str, caption: str, render: Callable[[], str]):
+        self.name = name  # one of NAMES
+        self.title = title
+        self.caption = caption
+        self._render: Callable[[], str] | None = render
+        self._svg: str | None = None
+        self._lock = threading.Lock()
+
+    @property
+    def drawn(self) -> bool:
+        return self._svg is not None
+
+    @property
+    def svg(self) -> str:
+        if self._svg is None:
+            with self._lock:
+                if self._svg is None:
+                    self._svg = self._render()
+                    self._render = None  # the data it closed over is no longer needed
+        return self._svg
 
 
 def schematic_picture(design: Design) -> Picture:
@@ -46,23 +65,23 @@ def schematic_picture(design: Design) -> Picture:
         f"through R_b {format_si(design.base.r_series, 'Ω')}. Clamp: {kind_of(design.clamp).title}. "
         "Every part is labelled with its value."
     )
-    return Picture("schematic", NAMES["schematic"], schematic_svg(design), words)
+    return Picture("schematic", NAMES["schematic"], words, lambda: schematic_svg(design))
 
 
 def turnoff_picture(design: Design, profile: Profile = DEFAULT_PROFILE) -> Picture:
     data = turnoff_data(build_context(design, profile))
-    return Picture("turnoff", NAMES["turnoff"], turnoff_svg(data), turnoff_caption(data))
+    return Picture("turnoff", NAMES["turnoff"], turnoff_caption(data), lambda: turnoff_svg(data))
 
 
 def margins_picture(design: Design, profile: Profile = DEFAULT_PROFILE) -> Picture:
     data = margins_over_temperature(design, profile)
-    return Picture("margins", NAMES["margins"], margins_svg(data), margins_caption(data))
+    return Picture("margins", NAMES["margins"], margins_caption(data), lambda: margins_svg(data))
 
 
 def draw(
     design: Design, profile: Profile = DEFAULT_PROFILE, which: tuple[str, ...] = tuple(NAMES)
 ) -> dict[str, Picture]:
-    """The pictures named in ``which``, in that order."""
+    """The pictures named in ``which``, in that order (captions now, each SVG when first asked for)."""
     makers = {
         "schematic": lambda: schematic_picture(design),
         "turnoff": lambda: turnoff_picture(design, profile),

@@ -178,3 +178,13 @@ def test_the_store_draws_again_for_other_content_and_keeps_a_bounded_number(_fre
     pictures.for_revision(None, revs[2], store, which)  # the first one leaves
     pictures.for_revision(None, revs[0], store, which)
     assert len(_fresh_store) == 4
+
+
+def test_the_page_shows_captions_without_waiting_for_the_plots(reviewer, world):
+    """The page needs the captions only; each SVG is drawn when its URL is first asked for."""
+    rev = revision_ids(world, K2)[-1]
+    assert "Turn-off over time." in reviewer.get(f"/revisions/{rev}").text
+    (kept,) = world.state.pictures._items.values()
+    assert [p.drawn for p in kept.values()] == [False, False, False]
+    reviewer.get(f"/revisions/{rev}/pictures/turnoff.svg")
+    assert [p.drawn for p in kept.values()] == [False, True, False]

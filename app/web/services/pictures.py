@@ -5,8 +5,10 @@ A picture is a pure function of those three: not of the review state, the viewer
 so unlike the page bodies it needs no data version in its key and survives every review action.
 The profile is keyed by its figures (not its row id), so one store can serve every app in the
 process (``STORE``; the tests make many apps over fresh databases). Drawing takes about a
-second; a request that finds another already drawing the same pictures waits for them instead
-of drawing them again.
+second, nearly all of it plotting: the store keeps the captions (what the pages show, worked out
+in milliseconds) and each SVG is drawn when first asked for (its own URL on the pages; inline on
+the record and the preview), then kept. A request that finds another already preparing the same
+pictures waits for them instead of preparing them again.
 """
 
 from __future__ import annotations
