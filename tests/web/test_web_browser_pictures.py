@@ -38,12 +38,11 @@ def _ink(png: Path) -> float:
     return float(np.mean(pixels.min(axis=-1) < 0.8))
 
 
-def _all_drawn(page) -> None:
+def _all_drawn(page, selector: str = "figure.picture img", count: int = 3) -> None:
     page.wait_for_function(
-        "() => [...document.querySelectorAll('figure.picture img')]"
-        ".every(i => i.complete && i.naturalWidth > 0)"
+        "s => [...document.querySelectorAll(s)].every(i => i.complete && i.naturalWidth > 0)", arg=selector
     )
-    assert page.locator("figure.picture img").count() == 3
+    assert page.locator(selector).count() == count
 
 
 def test_revision_page_and_printed_record_show_the_pictures(world, live, browser, tmp_path):  # noqa: F811
@@ -77,3 +76,34 @@ def test_revision_page_and_printed_record_show_the_pictures(world, live, browser
     assert "Turn-off over time." in text and "Margins over temperature." in text
     assert "The stage as designed." in text
     lee.context.close()
+
+
+def test_live_preview_redraws_as_a_value_is_typed(world, live, browser, tmp_path):  # noqa: F811
+    import base64
+
+    from .conftest import channel_id
+
+    folder = _folder(tmp_path)
+    k2 = _off_the_loop(channel_id, world, K2)
+    dana = _signed_in(browser, live, "dana")
+    dana.set_viewport_size({"width": 1280, "height": 900})
+    dana.goto(f"/channels/{k2}/new")
+    schematic = dana.locator("#preview figure.picture-schematic img")
+    before = schematic.get_attribute("src")
+    dana.fill("#f-base-r_series", "2k7")
+    dana.wait_for_function(
+        "old => { const i = document.querySelector('#preview figure.picture-schematic img');"
+        " return i && i.getAttribute('src') !== old && i.complete && i.naturalWidth > 0; }",
+        arg=before,
+        timeout=30_000,
+    )
+    src = schematic.get_attribute("src")
+    svg = base64.b64decode(src.split(",", 1)[1]).decode("utf-8")
+    assert "R_b 2.7\u00a0kΩ" in svg or "R_b 2.7 kΩ" in svg
+    assert dana.locator("#preview figure.picture-turnoff img").count() == 1
+    _all_drawn(dana, "#preview figure.picture img", 2)
+    shot = folder / "live-preview-schematic.png"
+    schematic.screenshot(path=str(shot))
+    assert _ink(shot) > 0.005, "the preview's schematic looks blank"
+    dana.locator("#preview").screenshot(path=str(folder / "live-preview.png"))
+    dana.context.close()
