@@ -44,7 +44,8 @@ def text(value: str) -> str:
 
 
 def tol(fraction: float) -> str:
-    return f"±{fraction * 100:g} %" if fraction else "exact"
+    """ " ±5 %" (with its leading space), or nothing where the design gives no tolerance."""
+    return f" ±{fraction * 100:g} %" if fraction else ""
 
 
 def named(kind: str, part) -> str:
@@ -134,7 +135,7 @@ def _diode(design: Design, name: str = "D1"):
 
 def _clamp_resistor(clamp, name: str = "R_s"):
     rating = f", {format_si(clamp.power_rating, 'W')}" if getattr(clamp, "power_rating", None) else ""
-    return elm.Resistor(), f"{name} {format_si(clamp.r, 'Ω')} {tol(clamp.tolerance)}{rating}"
+    return elm.Resistor(), f"{name} {format_si(clamp.r, 'Ω')}{tol(clamp.tolerance)}{rating}"
 
 
 def draw_no_clamp(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
@@ -154,7 +155,7 @@ def draw_diode_zener(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None
     z = design.clamp.zener
     zener = (
         elm.Zener().reverse(),
-        f"{named('Z1', z)}\nV_Z {format_si(z.vz, 'V')} {tol(z.tolerance)}, {format_si(z.p_max, 'W')}",
+        f"{named('Z1', z)}\nV_Z {format_si(z.vz, 'V')}{tol(z.tolerance)}, {format_si(z.p_max, 'W')}",
     )
     _across_coil(d, nodes, [_diode(design), zener])
 
@@ -171,7 +172,7 @@ def draw_rc(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
     c = design.clamp
     cap = (
         elm.Capacitor(),
-        f"C_s {format_si(c.c, 'F')} {tol(c.tolerance)}, {format_si(c.c_voltage_rating, 'V')}",
+        f"C_s {format_si(c.c, 'F')}{tol(c.tolerance)}, {format_si(c.c_voltage_rating, 'V')}",
     )
     _across_coil(d, nodes, [_clamp_resistor(c), cap])
 
@@ -222,14 +223,14 @@ def _base_network(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> tuple[f
         note(
             d,
             (start[0] - 0.5, (start[1] + nodes.ground_y) / 2),
-            f"R_be {format_si(b.r_pulldown, 'Ω')}\n{tol(b.tolerance)}",
+            f"R_be {format_si(b.r_pulldown, 'Ω')}{tol(b.tolerance)}",
             halign="right",
         )
     rb = d.add(elm.Resistor().at(start).left(4.5))
     note(
         d,
         ((start[0] + rb.end[0]) / 2, start[1] + 0.6),
-        f"R_b {format_si(b.r_series, 'Ω')} {tol(b.tolerance)}, {format_si(b.power_rating, 'W')}",
+        f"R_b {format_si(b.r_series, 'Ω')}{tol(b.tolerance)}, {format_si(b.power_rating, 'W')}",
         halign="center",
         valign="bottom",
     )
@@ -272,15 +273,15 @@ def draw_divider(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
     sensor = (
         elm.Photoresistor(),
         f"sensor\n{format_si(drive.r_sensor_on, 'Ω')} on\n{format_si(drive.r_sensor_off, 'Ω')} off\n"
-        f"{tol(drive.tolerance)}, {drive.transition}",
+        f"{drive.transition} change{tol(drive.tolerance)}",
     )
-    fixed = (elm.Resistor(), f"R_fixed\n{format_si(drive.r_fixed, 'Ω')}\n{tol(drive.tolerance)}")
+    fixed = (elm.Resistor(), f"R_fixed\n{format_si(drive.r_fixed, 'Ω')}{tol(drive.tolerance)}")
     top, bottom = (sensor, fixed) if drive.sensor_position == "top" else (fixed, sensor)
     top_y = nodes.supply[1]
     d.add(top[0].at((mid[0], top_y)).to(mid))
     note(d, (mid[0] - 0.7, (top_y + mid[1]) / 2), top[1], halign="right")
     source = (
-        f"V_src {format_si(drive.v_source, 'V')} {tol(drive.source_tolerance)}"
+        f"V_src {format_si(drive.v_source, 'V')}{tol(drive.source_tolerance)}"
         if drive.v_source is not None
         else "V_src = V_cc"
     )
@@ -307,7 +308,7 @@ def supply_text(design: Design) -> str:
 def coil_text(design: Design) -> str:
     c = design.coil
     return (
-        f"{named('K1', c)}\n{format_si(c.r_coil, 'Ω')} {tol(c.tolerance)}, {format_si(c.inductance, 'H')}\n"
+        f"{named('K1', c)}\n{format_si(c.r_coil, 'Ω')}{tol(c.tolerance)}, {format_si(c.inductance, 'H')}\n"
         f"must-operate {format_si(c.v_pickup, 'V')}\ndrop-out {format_si(c.v_dropout, 'V')}"
     )
 
