@@ -166,6 +166,8 @@ def _alternatives(ctx: Context) -> list[dict]:
             ok = _passes_ctx(alt, rules)
             if not ok:
                 continue
+            # The clamp itself, for the turn-off picture's overlays (not part of the report).
+            ctx.extras.setdefault("alternative_clamps", []).append((label, clamp))
             t_nom = float(alt.turnoff_nominal.time_to_dropout[0])
             t_worst = float(np.max(alt.turnoff.time_to_dropout))
             out.append(
