@@ -18,6 +18,7 @@ import pytest
 
 from app.engine import evaluate, parse_design
 from app.engine.clamps import CLAMP_KINDS
+from app.engine.switches import SWITCH_KINDS
 from app.pictures import draw, schematic_picture
 from app.pictures.schematic import CLAMPS, DRIVES, SWITCHES, schematic_svg
 from app.pictures.temperature import margins_over_temperature
@@ -61,6 +62,11 @@ CLAMP_CASES = {
         {"kind": "rc", "r": 680, "c": "1u", "tolerance": 10, "c_voltage_rating": 100, "power_rating": 0.5},
         ["R_s 680 Ω", "C_s 1 µF", "100 V"],
     ),
+    "array_diode": (
+        {"kind": "array_diode", "common_to": "supply", "vf": 1.7, "vf_at": 0.35, "i_peak": 0.5, "vrrm": 50,
+         "if_avg": 0.5},
+        ["U1 check array", "the array's own diode", "COM to V_cc", "V_RRM 50 V", "1.7 V"],
+    ),
 }  # fmt: skip
 # What every drawing carries: each part's label with its value.
 COMMON = ["V_cc 12 V", "10.8 V", "13.2 V", "K1 check coil", "160 Ω", "120 mH", "Q1 check NPN", "45 V",
@@ -81,19 +87,78 @@ def svg_text(svg: str) -> str:
     return " ".join(" ".join(root.itertext()).split())
 
 
+FET = {"kind": "nmos", "name": "check FET", "vds_max": 30, "id_max": 1.5, "rds_on": 0.2, "rds_on_vgs": 2.5,
+       "rds_on_hot": 1.6, "vgs_th_min": 0.7, "vgs_th_max": 1.4, "vgs_max": 12, "p_max": 0.35, "rth_ja": 350,
+       "tj_max": 150}  # fmt: skip
+ARRAY = {"kind": "darlington_array", "name": "check array", "channels": 7, "channels_on": 4, "r_input": 2700,
+         "vce_sat": 1.3, "vbe_on": 2.4, "hfe_min": 1000, "vceo": 50, "ic_max": 0.5, "p_max": 1.0, "rth_ja": 70,
+         "tj_max": 150}  # fmt: skip
+ARRAY_DIODE = {"kind": "array_diode", "vf": 1.7, "vf_at": 0.35, "i_peak": 0.5, "vrrm": 50, "if_avg": 0.5}
+# Per switch kind: the design's changes, and the labels and values its drawing must carry.
+SWITCH_CASES = {
+    "npn": ({}, ["Q1 check NPN", "45 V", "R_b 1 kΩ", "R_be 10 kΩ"]),
+    "nmos": (
+        {"switch": FET, "gate": BASE["base"], "base": None},
+        ["Q1 check FET", "V(BR)DSS 30 V", "200 mΩ", "V_GS 2.5 V", "700 mV", "1.4 V", "R_g 1 kΩ", "R_gs 10 kΩ"],
+    ),
+    "darlington_array": (
+        {"switch": ARRAY, "base": None, "clamp": {**ARRAY_DIODE, "common_to": "supply"}},
+        ["U1 check array", "one channel of 7, 4 on at once", "2.7 kΩ", "V(BR)CEO 50 V", "IN", "OUT", "COM",
+         "the array's own diode", "COM to V_cc", "50 V"],
+    ),
+}  # fmt: skip
+
+
 def test_every_clamp_kind_and_switch_kind_has_a_drawing():
     assert set(CLAMPS) == set(CLAMP_KINDS)
     assert set(CLAMP_CASES) == set(CLAMP_KINDS)
-    assert set(SWITCHES) == {"npn"}
+    assert set(SWITCHES) == set(SWITCH_CASES) == set(SWITCH_KINDS)
     assert set(DRIVES) == {"logic", "divider"}
+
+
+def _array_design(clamp: dict) -> dict:
+    document = _design(clamp, switch=copy.deepcopy(ARRAY))
+    del document["base"]
+    return document
 
 
 @pytest.mark.parametrize("kind", CLAMP_KINDS)
 def test_schematic_of_each_clamp_kind_is_well_formed_and_labelled(kind):
     clamp, expected = CLAMP_CASES[kind]
-    words = svg_text(schematic_svg(parse_design(_design(clamp))))
-    for label in COMMON + expected:
+    if kind == "array_diode":  # the clamp of a Darlington array channel only
+        words = svg_text(schematic_svg(parse_design(_array_design(clamp))))
+        common = [c for c in COMMON if not c.startswith(("Q1", "R_b", "R_be", "125 mW", "45 V"))]
+    else:
+        words = svg_text(schematic_svg(parse_design(_design(clamp))))
+        common = COMMON
+    for label in common + expected:
         assert label in words, f"{label!r} missing from the {kind} schematic: {words}"
+
+
+@pytest.mark.parametrize("kind", sorted(SWITCH_CASES))
+def test_schematic_of_each_switch_kind_is_well_formed_and_labelled(kind):
+    changes, expected = SWITCH_CASES[kind]
+    document = _design(changes.get("clamp", CLAMP_CASES["diode"][0]))
+    for key, value in changes.items():
+        if key == "clamp":
+            continue
+        if value is None:
+            document.pop(key, None)
+        else:
+            document[key] = copy.deepcopy(value)
+    words = svg_text(schematic_svg(parse_design(document)))
+    for label in ["V_cc 12 V", "K1 check coil", "160 Ω", "R_out 47 Ω", "logic output", *expected]:
+        assert label in words, f"{label!r} missing from the {kind} schematic: {words}"
+
+
+def test_an_unconnected_common_pin_is_drawn_as_no_clamp():
+    words = svg_text(schematic_svg(parse_design(_array_design({**ARRAY_DIODE, "common_to": "unconnected"}))))
+    assert "COM pin unconnected: no clamp" in words
+    zener = {"vz": 15, "tolerance": 5, "rz": 10, "p_max": 1}
+    words = svg_text(
+        schematic_svg(parse_design(_array_design({**ARRAY_DIODE, "common_to": "zener", "zener": zener})))
+    )
+    assert "the array's own diode" in words and "Z1" in words and "COM to V_cc" in words
 
 
 def test_schematic_of_a_divider_drive_shows_the_sensor_and_the_fixed_resistor():
@@ -232,3 +297,30 @@ def test_generated_designs_of_every_kind_draw_well_formed_pictures(kind):
         for picture in pictures.values():
             svg_text(picture.svg)
             assert picture.caption
+
+
+@pytest.mark.parametrize(
+    "example", sorted((ROOT / "seed_data" / "examples").glob("*.json")), ids=lambda p: p.stem
+)
+def test_every_example_of_every_switch_kind_draws_its_three_pictures(example):
+    import json
+
+    design = parse_design(json.loads(example.read_text(encoding="utf-8")))
+    pictures = draw(design)
+    assert list(pictures) == ["schematic", "turnoff", "margins"]
+    for picture in pictures.values():
+        svg_text(picture.svg)
+        assert picture.caption
+    # the switch's label (its name folded over lines, so its first words)
+    assert design.switch.name[:12] in svg_text(pictures["schematic"].svg)
+
+
+def test_an_unclamped_mosfet_shows_its_avalanche_energy_against_its_rating():
+    # the report's switch.avalanche finding (hand-worked in tests/test_rules_hand_worked_switches.py)
+    document = _design({"kind": "none"}, switch={**FET, "e_as": 0.05}, gate=BASE["base"])
+    del document["base"]
+    design = parse_design(document)
+    finding = next(f for f in evaluate(design)["findings"] if f["rule"] == "switch.avalanche")
+    words = draw(design, which=("turnoff",))["turnoff"].caption
+    assert "V(BR)DSS 30 V" in words and "Avalanche energy" in words and finding["status"] in words
+    assert "not a rated event" not in words

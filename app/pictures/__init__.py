@@ -15,6 +15,7 @@ from app.engine.clamps import kind_of
 from app.engine.design import Design
 from app.engine.profile import DEFAULT_PROFILE, Profile
 from app.engine.review import build_context
+from app.engine.switches import switch_kind
 from app.engine.units import format_si
 
 from .schematic import schematic_svg
@@ -59,11 +60,16 @@ class Picture:
 
 def schematic_picture(design: Design) -> Picture:
     c = design.coil
+    resistors = design.drive_resistors
+    through = (
+        f"through {'R_g' if design.gate is not None else 'R_b'} {format_si(resistors.r_series, 'Ω')}"
+        if resistors is not None
+        else "through its built-in input resistor"
+    )
     words = (
-        f"{design.switch.kind.upper()} low-side switch {design.switch.name} driving {c.name} "
+        f"{switch_kind(design.switch).title} low-side switch {design.switch.name} driving {c.name} "
         f"({format_si(c.r_coil, 'Ω')}, {format_si(c.inductance, 'H')}) from a {design.drive.kind} drive "
-        f"through R_b {format_si(design.base.r_series, 'Ω')}. Clamp: {kind_of(design.clamp).title}. "
-        "Every part is labelled with its value."
+        f"{through}. Clamp: {kind_of(design.clamp).title}. Every part is labelled with its value."
     )
     return Picture("schematic", NAMES["schematic"], words, lambda: schematic_svg(design))
 

@@ -63,8 +63,9 @@ class Nodes:
 
     supply: tuple[float, float]  # top of the coil
     switch: tuple[float, float]  # the switch node (coil bottom, collector/drain)
-    control: tuple[float, float] = (0.0, 0.0)  # the switch's control input (base/gate)
+    control: tuple[float, float] = (0.0, 0.0)  # the switch's control input (base/gate/input pin)
     ground_y: float = 0.0
+    common: tuple[float, float] | None = None  # a Darlington array's common (clamp) pin
 
 
 def wrapped(words: str, width: int = LABEL_WIDTH) -> str:
@@ -102,7 +103,63 @@ def draw_npn(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
     )
 
 
-SWITCHES: dict[str, Callable[[schemdraw.Drawing, Design, Nodes], None]] = {"npn": draw_npn}
+def draw_nmos(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
+    """An N-channel MOSFET: drain at the switch node, source to ground, the gate on the left."""
+    s = design.switch
+    q = d.add(elm.NFet().theta(0).reverse().anchor("drain").at(nodes.switch))
+    d.add(elm.Line().at(q.source).down(1.2))
+    d.add(elm.Ground())
+    nodes.control = q.gate
+    nodes.ground_y = q.source[1] - 1.2
+    note(
+        d,
+        (0.6, nodes.ground_y - 0.7),
+        f"{named('Q1', s)}\nV(BR)DSS {format_si(s.vds_max, 'V')}, I_D {format_si(s.id_max, 'A')}\n"
+        f"R_DS(on) {format_si(s.rds_on, 'Ω')} at V_GS {format_si(s.rds_on_vgs, 'V')}\n"
+        f"V_GS(th) {format_si(s.vgs_th_min, 'V')} to {format_si(s.vgs_th_max, 'V')}",
+        valign="top",
+    )
+
+
+def draw_darlington(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
+    """One channel of a Darlington array as the package's pins: the output at the switch node,
+    the input on the left (its series resistor is inside), ground below, the common pin of the
+    array's clamp diodes on the right."""
+    s = design.switch
+    chip = d.add(
+        elm.Ic(
+            pins=[
+                elm.IcPin(name="IN", side="left"),
+                elm.IcPin(name="OUT", side="top"),
+                elm.IcPin(name="GND", side="bottom"),
+                elm.IcPin(name="COM", side="right"),
+            ],
+            size=(2.5, 2.5),
+        )
+        .theta(0)
+        .anchor("OUT")
+        .at(nodes.switch)
+    )
+    d.add(elm.Line().at(chip.GND).down(0.8))
+    d.add(elm.Ground())
+    nodes.control = chip.IN
+    nodes.common = chip.COM
+    nodes.ground_y = chip.GND[1] - 0.8
+    note(
+        d,
+        (0.6, nodes.ground_y - 0.7),
+        f"{named('U1', s)}\none channel of {s.channels}, {s.channels_on} on at once\n"
+        f"input R {format_si(s.r_input, 'Ω')} inside, V_I(on) {format_si(s.vbe_on, 'V')}\n"
+        f"V(BR)CEO {format_si(s.vceo, 'V')}, I_C {format_si(s.ic_max, 'A')} per channel",
+        valign="top",
+    )
+
+
+SWITCHES: dict[str, Callable[[schemdraw.Drawing, Design, Nodes], None]] = {
+    "npn": draw_npn,
+    "nmos": draw_nmos,
+    "darlington_array": draw_darlington,
+}
 
 
 # ---------------------------------------------------------------- clamps
@@ -195,7 +252,39 @@ def draw_tvs(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
     )
 
 
+def draw_array_diode(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> None:
+    """The array's own clamp diode runs from the output to the common pin: drawn across the coil
+    when the common pin goes to the supply (with the zener when it goes through one); left
+    unconnected, the drawing says there is no clamp."""
+    c = design.clamp
+    x = nodes.supply[0] + CLAMP_X
+    if c.common_to == "unconnected":
+        note(
+            d,
+            (x, (nodes.supply[1] + nodes.switch[1]) / 2),
+            "COM pin unconnected: no clamp;\nthe output rises until the\nchannel breaks down (avalanche)",
+        )
+        return
+    diode = (
+        elm.Diode(),
+        f"the array's own diode (OUT to COM{', COM to V_cc' if c.common_to == 'supply' else ''})\n"
+        f"V_RRM {format_si(c.vrrm, 'V')}, V_F {format_si(c.vf, 'V')}",
+    )
+    parts = [diode]
+    if c.common_to == "zener":
+        z = c.zener
+        parts.append(
+            (
+                elm.Zener().reverse(),
+                f"{named('Z1', z)} COM to V_cc\nV_Z {format_si(z.vz, 'V')}{tol(z.tolerance)}, "
+                f"{format_si(z.p_max, 'W')}",
+            )
+        )
+    _across_coil(d, nodes, parts)
+
+
 CLAMPS: dict[str, Callable[[schemdraw.Drawing, Design, Nodes], None]] = {
+    "array_diode": draw_array_diode,
     "none": draw_no_clamp,
     "diode": draw_diode,
     "diode_zener": draw_diode_zener,
@@ -210,12 +299,16 @@ CLAMPS: dict[str, Callable[[schemdraw.Drawing, Design, Nodes], None]] = {
 
 
 def _base_network(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> tuple[float, float]:
-    """R_b from the control input leftwards, the pull-down from its base end to ground;
-    returns the drive end of R_b."""
-    b = design.base
+    """The series resistor from the control input leftwards (R_b for a base, R_g for a gate), the
+    pull-down from its switch end to ground; returns the drive end. A Darlington array channel
+    has its input resistor inside: a wire."""
+    b = design.drive_resistors
     start = nodes.control
     d.add(elm.Line().at(start).left(1.8))
     start = (start[0] - 1.8, start[1])
+    if b is None:
+        return start
+    series, pulldown = ("R_g", "R_gs") if design.gate is not None else ("R_b", "R_be")
     if b.r_pulldown is not None:
         d.add(elm.Dot().at(start))
         d.add(elm.Resistor().at(start).to((start[0], nodes.ground_y)))
@@ -223,14 +316,14 @@ def _base_network(d: schemdraw.Drawing, design: Design, nodes: Nodes) -> tuple[f
         note(
             d,
             (start[0] - 0.5, (start[1] + nodes.ground_y) / 2),
-            f"R_be {format_si(b.r_pulldown, 'Ω')}{tol(b.tolerance)}",
+            f"{pulldown} {format_si(b.r_pulldown, 'Ω')}{tol(b.tolerance)}",
             halign="right",
         )
     rb = d.add(elm.Resistor().at(start).left(4.5))
     note(
         d,
         ((start[0] + rb.end[0]) / 2, start[1] + 0.6),
-        f"R_b {format_si(b.r_series, 'Ω')}{tol(b.tolerance)}, {format_si(b.power_rating, 'W')}",
+        f"{series} {format_si(b.r_series, 'Ω')}{tol(b.tolerance)}, {format_si(b.power_rating, 'W')}",
         halign="center",
         valign="bottom",
     )

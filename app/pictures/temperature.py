@@ -68,6 +68,8 @@ def margins_over_temperature(
         at_t = design.model_copy(update={"ambient": Ambient(min=float(t), max=float(t))})
         ctx = build_context(at_t, profile, alternatives=False)
         for registered in RULES.values():
+            if not registered.applies_to(design):
+                continue
             finding = registered.check(ctx)
             value = None if finding is None else margin(finding.as_dict())
             if value is None:

@@ -18,6 +18,7 @@ import numpy as np
 from app.engine.clamps import kind_of
 from app.engine.review import build_context
 from app.engine.rules import Context
+from app.engine.switches import switch_kind
 from app.engine.transient import Waveform
 from app.engine.units import format_si
 
@@ -42,11 +43,13 @@ class TurnOffData:
     unclamped: bool
     curves: list[Curve]
     dropout_current: float
-    breakdown: float  # V_(BR)CEO, the switch's rating
+    breakdown: float  # V_(BR)CEO or V_(BR)DSS, the switch's rating
     derated: float  # the profile's voltage fraction of it
     derating: float
     peak_nominal: float
     peak_worst: float  # the worst corner for the spike (may differ from the slowest release)
+    breakdown_name: str = "V(BR)CEO"
+    avalanche: str = ""  # a MOSFET's avalanche energy against its rating, when unclamped
 
 
 def slowest_release_corner(ctx: Context) -> int:
@@ -101,12 +104,33 @@ def turnoff_data(ctx: Context) -> TurnOffData:
         unclamped=kind_of(design.clamp).unclamped,
         curves=curves,
         dropout_current=float(ctx.nominal.dropout_current),
-        breakdown=design.switch.vceo,
-        derated=ctx.profile.voltage * design.switch.vceo,
+        breakdown=switch_kind(design.switch).breakdown(design.switch),
+        breakdown_name=switch_kind(design.switch).breakdown_symbol.replace("_(", "("),
+        avalanche=_avalanche_words(ctx),
+        derated=ctx.profile.voltage * switch_kind(design.switch).breakdown(design.switch),
         derating=ctx.profile.voltage,
         peak_nominal=float(ctx.turnoff_nominal.peak_switch_voltage[0]),
         peak_worst=float(np.max(peaks)),
     )
+
+
+def _avalanche_words(ctx: Context) -> str:
+    """For an unclamped switch with an avalanche rule (a MOSFET): the energy against its rating,
+    as the report's finding gives it."""
+    from app.engine.rules import RULES
+
+    rule = RULES.get("switch.avalanche")
+    if rule is None or not rule.applies_to(ctx.design) or not kind_of(ctx.design.clamp).unclamped:
+        return ""
+    finding = rule.check(ctx)
+    if finding is None:
+        return ""
+    rating = (
+        f" against {format_si(finding.rating, 'J')}"
+        if finding.rating is not None
+        else " with no rating given"
+    )
+    return f" Avalanche energy {format_si(finding.value, 'J')} per turn-off{rating} ({finding.status})."
 
 
 def _release_text(t: float) -> str:
@@ -117,15 +141,20 @@ def caption(data: TurnOffData) -> str:
     nominal, worst = data.curves[0], data.curves[1]
     words = []
     if data.unclamped:
+        rated = (
+            "an avalanche of the transistor is not a rated event"
+            if not data.avalanche
+            else "the switch avalanches at every turn-off"
+        )
         words.append(
             f"No clamp: when the switch opens its node rises until Q1 breaks down, at least "
-            f"V(BR)CEO {format_si(data.breakdown, 'V')} and possibly far above; an avalanche of the "
-            "transistor is not a rated event. Drawn at V(BR)CEO, the least it can be."
+            f"{data.breakdown_name} {format_si(data.breakdown, 'V')} and possibly far above; {rated}. "
+            f"Drawn at {data.breakdown_name}, the least it can be.{data.avalanche}"
         )
     else:
         words.append(
             f"{data.clamp_title}: switch-node peak {format_si(data.peak_nominal, 'V')} at the nominal corner, "
-            f"{format_si(data.peak_worst, 'V')} at the worst corner, against V(BR)CEO "
+            f"{format_si(data.peak_worst, 'V')} at the worst corner, against {data.breakdown_name} "
             f"{format_si(data.breakdown, 'V')} (derated limit {format_si(data.derated, 'V')})."
         )
     words.append(
@@ -189,7 +218,7 @@ def _draw(data: TurnOffData):
     bottom.axhline(data.breakdown, color=LIMIT, linestyle="-", linewidth=1.4)
     bottom.axhline(data.derated, color=LIMIT, linestyle=(0, (3, 1.5)), linewidth=1.4)
     bottom.annotate(
-        plain(f"V(BR)CEO rating {format_si(data.breakdown, 'V')}"),
+        plain(f"{data.breakdown_name} rating {format_si(data.breakdown, 'V')}"),
         (0.01, data.breakdown),
         xycoords=("axes fraction", "data"),
         va="bottom",
@@ -214,7 +243,8 @@ def _draw(data: TurnOffData):
             linewidth=0,
         )
         bottom.annotate(
-            "avalanche: at least V(BR)CEO, possibly far above: not a rated event",
+            f"avalanche: at least {data.breakdown_name}, possibly far above"
+            + ("" if data.avalanche else ": not a rated event"),
             (0.5, data.breakdown * 1.15),
             xycoords=("axes fraction", "data"),
             ha="center",
