@@ -1,4 +1,4 @@
-"""The ``clampdown`` command line: check, schema, netlist (and the web app's commands).
+"""The ``clampdown`` command line: check, schema, netlist, draw (and the web app's commands).
 
 Exit codes: 0 no violation, 1 a violation (or a marginal finding with --strict), 2 bad input,
 3 an internal error (a bug: one line on standard error asks for the design file). `check` takes
@@ -298,6 +298,31 @@ def _netlist(args: argparse.Namespace) -> int:
     return 0
 
 
+def _draw(args: argparse.Namespace) -> int:
+    from .engine.profile import DEFAULT_PROFILE
+    from .pictures import NAMES, draw
+
+    profile = load_profile_file(args.profile) if args.profile else DEFAULT_PROFILE
+    design = load_design_file(args.file)
+    folder = Path(args.output)
+    if folder.exists() and not folder.is_dir():
+        raise InputError.about(args.output, [("", "is a file; give a folder to write the pictures into")])
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise InputError.about(args.output, [("", f"cannot be made ({exc.strerror})")]) from None
+    stem = args.name or (Path(args.file).stem if args.file != "-" else "design")
+    which = tuple(args.only) if args.only else tuple(NAMES)
+    for name, picture in draw(design, profile, which).items():
+        path = folder / f"{stem}-{name}.svg"
+        try:
+            path.write_text(picture.svg, encoding="utf-8")
+        except OSError as exc:
+            raise InputError.about(str(path), [("", f"cannot be written ({exc.strerror})")]) from None
+        print(f"{path}: {picture.title}. {picture.caption}")
+    return 0
+
+
 class _Parser(argparse.ArgumentParser):
     def error(self, message: str):  # argparse already exits 2; keep its message short
         self.print_usage(sys.stderr)
@@ -366,6 +391,28 @@ def build_parser() -> argparse.ArgumentParser:
     )
     net.add_argument("-o", "--output", help="file to write (default: standard output)")
     net.set_defaults(run=_netlist)
+
+    pictures = sub.add_parser(
+        "draw",
+        help="write the pictures of a design as SVG files: the stage, its turn-off, its margins over temperature",
+    )
+    pictures.add_argument("file", help="design file (JSON, clampdown-design/1), or - for standard input")
+    pictures.add_argument(
+        "-o", "--output", default=".", metavar="FOLDER", help="folder to write into (default: here)"
+    )
+    pictures.add_argument(
+        "--name",
+        help="file name stem (default: the design file's); files are STEM-schematic.svg, "
+        "STEM-turnoff.svg, STEM-margins.svg",
+    )
+    pictures.add_argument(
+        "--only",
+        action="append",
+        choices=("schematic", "turnoff", "margins"),
+        help="draw only this picture (repeatable)",
+    )
+    pictures.add_argument("--profile", metavar="FILE", help="derating profile (JSON, clampdown-profile/1)")
+    pictures.set_defaults(run=_draw)
 
     for add in EXTRA_COMMANDS:
         add(sub)

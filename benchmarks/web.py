@@ -229,6 +229,8 @@ def main() -> None:
         for name, path in (
             ("trivial", "/healthz"),
             ("revision page", f"/revisions/{ids['revision']}"),
+            # One of its pictures, as the browser fetches it after the page (drawn once, kept).
+            ("its turn-off svg", f"/revisions/{ids['revision']}/pictures/turnoff.svg"),
             ("home page", "/"),
             ("fixture page", f"/fixtures/{ids['fixture']}"),
             ("channel page", f"/channels/{ids['channel']}"),

@@ -11,8 +11,8 @@ quantity:
 - part tolerances: normal about the middle of the range with σ = tolerance/3, clipped at the
   tolerance (common practice: a ±5 % part is taken as a 3σ bound).
 
-Quantities the design gives as single numbers (h_FE, V_CE(sat), V_BE, the inductance, the diode's
-and zener's curves, the pick-up voltage) are not drawn, nor is the coil's self-heating (taken at
+Quantities the design gives as single numbers (the switch's gain, saturation voltage or
+on-resistance and thresholds, the inductance, the diode's and zener's curves, the pick-up voltage) are not drawn, nor is the coil's self-heating (taken at
 the highest supply): each check takes them at its own worst case, as at the corners, so every
 fraction here is an upper bound on what a batch would show.
 
@@ -151,9 +151,10 @@ def monte_carlo(
             f.name: distribution_of(design, f.name) for f in corners.factors if f.low != f.high
         },
         "rules": rules,
-        "held": "h_FE, V_CE(sat), V_BE, the inductance, the diode and zener curves, the pick-up "
-        "voltage and the coil's self-heating (at the highest supply) are not drawn: each check takes "
-        "them at its own worst case, so these fractions are upper bounds",
+        "held": "the switch's own figures (gain, saturation voltage or on-resistance, thresholds), "
+        "the inductance, the diode and zener curves, the pick-up voltage and the coil's self-heating "
+        "(at the highest supply) are not drawn: each check takes them at its own worst case, so these "
+        "fractions are upper bounds",
     }
 
 

@@ -12,7 +12,7 @@ from . import ENGINE_VERSION
 from .circuit import operating_point
 from .clamps import DiodeClamp, DiodeZenerClamp, ResistorClamp, kind_of
 from .corners import Corners, corners_at_rows, nominal_corner, worst_corners
-from .design import Design, Diode, Zener
+from .design import QUANTITY_RANGES, Design, Diode, Zener
 from .physics import THERMAL_VOLTAGE, DiodeModel
 from .profile import DEFAULT_PROFILE, Profile
 from .rules import RULES, STATUS_ORDER, Context, Finding
@@ -128,7 +128,12 @@ def _alternatives(ctx: Context) -> list[dict]:
     if zeners:
         tries.append(("zener", zeners))
     resistors = []
-    r = e24_at_most(v_budget / (i0_worst * (1 + E24_TOLERANCE / 100))) if v_budget > 0 else None
+    # No larger than a design file may give (QUANTITY_RANGES: 1 GΩ), so a tiny coil current
+    # cannot suggest a resistor the design's own model would refuse.
+    r_most = (
+        min(v_budget / (i0_worst * (1 + E24_TOLERANCE / 100)), QUANTITY_RANGES["Ω"][1]) if v_budget > 0 else 0
+    )
+    r = e24_at_most(r_most) if r_most > 0 else None
     while r is not None and len(resistors) < 3:
         p_on = design.supply.high**2 / (r * (1 - E24_TOLERANCE / 100))
         watts = next((w for w in _RESISTOR_WATTS if p_on <= ctx.profile.power * w), None)
@@ -161,6 +166,8 @@ def _alternatives(ctx: Context) -> list[dict]:
             ok = _passes_ctx(alt, rules)
             if not ok:
                 continue
+            # The clamp itself, for the turn-off picture's overlays (not part of the report).
+            ctx.extras.setdefault("alternative_clamps", []).append((label, clamp))
             t_nom = float(alt.turnoff_nominal.time_to_dropout[0])
             t_worst = float(np.max(alt.turnoff.time_to_dropout))
             out.append(

@@ -46,6 +46,7 @@ def _requests(app, role):
         ("GET", f"/revisions/{rev}", "read", {}),
         ("GET", f"/revisions/{rev}/design.json", "read", {}),
         ("GET", f"/revisions/{rev}/windows", "read", {}),
+        ("GET", f"/revisions/{rev}/pictures/schematic.svg", "read", {}),
         ("GET", "/parts", "read", {}),
         ("GET", "/parts/picker?slot=switch&q=NPN", "read", {}),
         ("GET", "/parts/export.csv?kind=coil", "read", {}),

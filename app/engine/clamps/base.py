@@ -16,7 +16,7 @@ from typing import TYPE_CHECKING, Any, ClassVar
 import numpy as np
 
 from ..physics import DiodeModel
-from ..transient import TurnOff, integral_turn_off
+from ..transient import TurnOff, Waveform, integral_turn_off, integral_waveform, one_corner
 
 if TYPE_CHECKING:
     from ..design import Design, Diode, Model
@@ -92,6 +92,21 @@ class ClampPath:
     ) -> TurnOff:
         return integral_turn_off(
             self, inductance, r_coil, initial_current, dropout_current, energies=energies
+        )
+
+    def waveform(
+        self,
+        index: int,
+        inductance: float,
+        r_coil: float,
+        initial_current: float,
+        dropout_current: float,
+        points: int = 160,
+    ) -> Waveform:
+        """Coil current and switch-node voltage over time at corner ``index``, from the switch
+        opening until the current falls to drop-out (``transient.integral_waveform``)."""
+        return integral_waveform(
+            one_corner(self, index), inductance, r_coil, initial_current, dropout_current, points
         )
 
 
