@@ -97,7 +97,15 @@ def test_live_preview_redraws_as_a_value_is_typed(world, live, browser, tmp_path
         arg=before,
         timeout=30_000,
     )
+    # Typing sends the form on input (after 500 ms) and on change: wait until the preview has
+    # stopped being replaced.
     src = schematic.get_attribute("src")
+    for _ in range(30):
+        dana.wait_for_timeout(700)
+        now = schematic.get_attribute("src")
+        if now == src and dana.locator(".htmx-request").count() == 0:
+            break
+        src = now
     svg = base64.b64decode(src.split(",", 1)[1]).decode("utf-8")
     assert "R_b 2.7\u00a0kΩ" in svg or "R_b 2.7 kΩ" in svg
     assert dana.locator("#preview figure.picture-turnoff img").count() == 1
