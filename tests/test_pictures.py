@@ -232,3 +232,22 @@ def test_generated_designs_of_every_kind_draw_well_formed_pictures(kind):
         for picture in pictures.values():
             svg_text(picture.svg)
             assert picture.caption
+
+
+def test_schematic_stays_in_the_svg_namespace_whatever_else_registers_namespaces():
+    """Importing WeasyPrint registers an empty default namespace in ElementTree's process-wide
+    table; the schematic must still be an <svg> whose every element is SVG (a browser draws
+    nothing of elements outside the SVG namespace)."""
+    import xml.etree.ElementTree as ElementTree
+
+    saved = dict(ElementTree._namespace_map)
+    try:
+        ElementTree.register_namespace("", "")
+        svg = schematic_svg(parse_design(_design(CLAMP_CASES["diode"][0])))
+    finally:
+        ElementTree._namespace_map.clear()
+        ElementTree._namespace_map.update(saved)
+    assert svg.startswith("<svg ") and "ns0:" not in svg
+    root = ET.fromstring(svg)
+    svg_ns = "{http://www.w3.org/2000/svg}"
+    assert all(element.tag.startswith(svg_ns) for element in root.iter())
