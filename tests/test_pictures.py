@@ -324,3 +324,22 @@ def test_an_unclamped_mosfet_shows_its_avalanche_energy_against_its_rating():
     words = draw(design, which=("turnoff",))["turnoff"].caption
     assert "V(BR)DSS 30 V" in words and "Avalanche energy" in words and finding["status"] in words
     assert "not a rated event" not in words
+
+
+def test_schematic_stays_in_the_svg_namespace_whatever_else_registers_namespaces():
+    """Importing WeasyPrint registers an empty default namespace in ElementTree's process-wide
+    table; the schematic must still be an <svg> whose every element is SVG (a browser draws
+    nothing of elements outside the SVG namespace)."""
+    import xml.etree.ElementTree as ElementTree
+
+    saved = dict(ElementTree._namespace_map)
+    try:
+        ElementTree.register_namespace("", "")
+        svg = schematic_svg(parse_design(_design(CLAMP_CASES["diode"][0])))
+    finally:
+        ElementTree._namespace_map.clear()
+        ElementTree._namespace_map.update(saved)
+    assert svg.startswith("<svg ") and "ns0:" not in svg
+    root = ET.fromstring(svg)
+    svg_ns = "{http://www.w3.org/2000/svg}"
+    assert all(element.tag.startswith(svg_ns) for element in root.iter())

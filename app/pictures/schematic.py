@@ -16,6 +16,7 @@ import html
 import re
 import textwrap
 import threading
+import xml.etree.ElementTree as ET
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -30,6 +31,7 @@ from app.engine.units import format_si
 _LOCK = threading.Lock()
 
 FONT_SIZE = 11
+SVG_NAMESPACE = "http://www.w3.org/2000/svg"
 CLAMP_X = 8.0  # how far right of the coil the clamp branch runs
 COIL_HEIGHT = 6.0
 LABEL_WIDTH = 30  # characters per label line: the coil's label must end before the clamp
@@ -423,5 +425,13 @@ def schematic_svg(design: Design) -> str:
         SWITCHES[design.switch.kind](d, design, nodes)
         CLAMPS[design.clamp.kind](d, design, nodes)
         DRIVES[design.drive.kind](d, design, nodes)
-        svg = d.get_imagedata("svg")
-    return svg.decode("utf-8") if isinstance(svg, bytes) else svg
+        d.draw(show=False)
+        root = d.fig.getsvg()
+    # schemdraw writes its root in the SVG namespace and every other element unqualified, and
+    # leaves the serialisation to ElementTree's process-wide prefix table, where it registers
+    # SVG as the default namespace. Any later registration of a default namespace (importing
+    # WeasyPrint does) turns that into <ns0:svg> with children in no namespace: a picture that
+    # draws nothing. Declared here on the root itself, it no longer depends on that table.
+    root.tag = "svg"
+    root.set("xmlns", SVG_NAMESPACE)
+    return ET.tostring(root, encoding="unicode")

@@ -38,6 +38,27 @@ def _ink(png: Path) -> float:
     return float(np.mean(pixels.min(axis=-1) < 0.8))
 
 
+INK_JS = """async selector => {
+    const img = document.querySelector(selector);
+    await img.decode();
+    const canvas = document.createElement('canvas');
+    canvas.width = img.naturalWidth; canvas.height = img.naturalHeight;
+    const g = canvas.getContext('2d');
+    g.fillStyle = 'white'; g.fillRect(0, 0, canvas.width, canvas.height);
+    g.drawImage(img, 0, 0);
+    const d = g.getImageData(0, 0, canvas.width, canvas.height).data;
+    let dark = 0;
+    for (let k = 0; k < d.length; k += 4) if (Math.min(d[k], d[k + 1], d[k + 2]) < 204) dark++;
+    return dark / (d.length / 4);
+}"""
+
+
+def _ink_in_page(page, selector: str) -> float:
+    """The share of non-white pixels of an <img> as the browser decoded it (drawn on a canvas
+    over white): independent of when the page last repainted it."""
+    return page.evaluate(INK_JS, selector)
+
+
 def _all_drawn(page, selector: str = "figure.picture img", count: int = 3) -> None:
     page.wait_for_function(
         "s => [...document.querySelectorAll(s)].every(i => i.complete && i.naturalWidth > 0)", arg=selector
@@ -58,6 +79,7 @@ def test_revision_page_and_printed_record_show_the_pictures(world, live, browser
         shot = folder / f"revision-{name}.png"
         lee.locator(f"figure.picture-{name} img").screenshot(path=str(shot))
         assert _ink(shot) > 0.005, f"{name} looks blank in the browser"
+        assert _ink_in_page(lee, f"figure.picture-{name} img") > 0.005
     caption = lee.inner_text("figure.picture-turnoff figcaption")
     assert re.search(r"drop-out current [\d.]+ mA in [\d.]+ [mµ]s", caption)
 
@@ -97,13 +119,20 @@ def test_live_preview_redraws_as_a_value_is_typed(world, live, browser, tmp_path
         arg=before,
         timeout=30_000,
     )
+    # Typing sends the form on input (after 500 ms) and on change: wait until the preview has
+    # stopped being replaced.
     src = schematic.get_attribute("src")
+    for _ in range(30):
+        dana.wait_for_timeout(700)
+        now = schematic.get_attribute("src")
+        if now == src and dana.locator(".htmx-request").count() == 0:
+            break
+        src = now
     svg = base64.b64decode(src.split(",", 1)[1]).decode("utf-8")
     assert "R_b 2.7\u00a0kΩ" in svg or "R_b 2.7 kΩ" in svg
     assert dana.locator("#preview figure.picture-turnoff img").count() == 1
     _all_drawn(dana, "#preview figure.picture img", 2)
-    shot = folder / "live-preview-schematic.png"
-    schematic.screenshot(path=str(shot))
-    assert _ink(shot) > 0.005, "the preview's schematic looks blank"
+    assert _ink_in_page(dana, "#preview figure.picture-schematic img") > 0.005, "the schematic looks blank"
+    assert _ink_in_page(dana, "#preview figure.picture-turnoff img") > 0.005, "the turn-off looks blank"
     dana.locator("#preview").screenshot(path=str(folder / "live-preview.png"))
     dana.context.close()
