@@ -129,10 +129,7 @@ def design_files(paths: list[str]) -> list[tuple[str, InputError | None]]:
 
 def _extras(args: argparse.Namespace) -> dict:
     """What the report adds on request (the engine's keyword arguments)."""
-    extras: dict = {"windows": True} if args.windows else {}
-    if args.samples is not None:
-        extras.update(samples=args.samples, seed=args.seed)
-    return extras
+    return {"windows": True} if args.windows else {}
 
 
 def _exit_code(report: dict, strict: bool) -> int:
@@ -271,16 +268,6 @@ def _netlist(args: argparse.Namespace) -> int:
     return 0
 
 
-def _positive_count(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
-    if not 1 <= value <= 10_000_000:
-        raise argparse.ArgumentTypeError(f"{value} is out of range: allowed from 1 to 10000000")
-    return value
-
-
 class _Parser(argparse.ArgumentParser):
     def error(self, message: str):  # argparse already exits 2; keep its message short
         self.print_usage(sys.stderr)
@@ -316,15 +303,6 @@ def build_parser() -> argparse.ArgumentParser:
         "R and C, the interval where every rule holds (others as designed) and the standard "
         "values inside it",
     )
-    check.add_argument(
-        "--samples",
-        type=_positive_count,
-        metavar="N",
-        help="add a Monte Carlo yield over N seeded draws (tolerances normal with σ = tolerance/3 "
-        "clipped at the tolerance, supply, ambient and other ranges uniform): per rule the share "
-        "past its rating and past its derated limit, with 95 %% Wilson intervals",
-    )
-    check.add_argument("--seed", type=int, default=1, help="seed of the Monte Carlo draws (default 1)")
     check.add_argument(
         "--profile",
         metavar="FILE",

@@ -47,9 +47,6 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--designs", type=int, default=200)
     parser.add_argument("--seed", type=int, default=2024)
-    parser.add_argument(
-        "--mc-samples", type=int, default=100_000, help="Monte Carlo samples of one design (0: skip)"
-    )
     args = parser.parse_args()
 
     rng = random.Random(args.seed)
@@ -97,39 +94,12 @@ def main() -> None:
         f"({len(clamped)} clamped circuits, {failures} without a result)"
     )
     print(f"ratio:   the engine is {spice_ms / engine_ms:.1f}x faster than one ngspice run (goal >= 100x)")
-    if args.mc_samples:
-        _monte_carlo_ratio(clamped, args.mc_samples, spice_ms)
     engine_cpu_ms = engine_cpu / (rounds * len(designs)) * 1e3
     spice_cpu_ms = spice_cpu / max(1, len(spice_times)) * 1e3
     print(
         f"cpu:     {engine_cpu_ms:.3f} ms per evaluation, {spice_cpu_ms:.3f} ms per ngspice run (means): "
         f"{spice_cpu_ms / engine_cpu_ms:.1f}x"
     )
-
-
-def _monte_carlo_ratio(clamped, samples: int, spice_ms: float) -> None:
-    """Monte Carlo of one design against 20 ngspice runs of one corner (the issue's target): the
-    first design with a diode clamp, and the first of those whose worst corner passes every rule
-    (then no rule needs judging draw by draw)."""
-    from app.engine.montecarlo import monte_carlo
-
-    diode = [d for d in clamped if d.clamp.kind == "diode"]
-    passing = [d for d in diode if evaluate(d)["verdict"] == "ok"]
-    for label, design in (
-        ("a diode-clamped design", diode[0]),
-        ("a design passing at its worst corner", passing[0] if passing else None),
-    ):
-        if design is None:
-            print(f"monte carlo: no generated {label.split(' ', 1)[1]} to time")
-            continue
-        start = time.perf_counter()
-        result = monte_carlo(design, samples=samples, seed=1)
-        mc_ms = (time.perf_counter() - start) * 1e3
-        split = sum(1 for r in result["rules"] if r["past_limit"]["count"])
-        print(
-            f"monte carlo: {samples} samples of {label} in {mc_ms:.0f} ms ({split} rule(s) judged draw by draw); "
-            f"20 ngspice runs {20 * spice_ms:.0f} ms: {20 * spice_ms / mc_ms:.2f}x (goal >= 1)"
-        )
 
 
 if __name__ == "__main__":

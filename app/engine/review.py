@@ -299,19 +299,11 @@ def _num(x) -> float | None:
     return x if np.isfinite(x) else None
 
 
-def evaluate(
-    design: Design,
-    profile: Profile = DEFAULT_PROFILE,
-    *,
-    windows: bool = False,
-    samples: int | None = None,
-    seed: int = 1,
-) -> dict:
+def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE, *, windows: bool = False) -> dict:
     """Evaluate every rule at its worst corner; return the report (format clampdown-report/1).
 
     ``windows``: add ``windows``, the design window of every value the designer chose
-    (app/engine/window.py); it evaluates the design a few hundred times, so it is asked for.
-    ``samples``: add ``monte_carlo``, the yield over that many seeded draws (app/engine/montecarlo.py)."""
+    (app/engine/window.py); it evaluates the design a few hundred times, so it is asked for."""
     ctx = build_context(design, profile)
     findings: list[Finding] = []
     for registered in RULES.values():
@@ -360,10 +352,6 @@ def evaluate(
         from .window import design_windows
 
         report["windows"] = design_windows(design, profile)
-    if samples is not None:
-        from .montecarlo import monte_carlo
-
-        report["monte_carlo"] = monte_carlo(design, profile, samples=samples, seed=seed)
     return report
 
 

@@ -62,25 +62,4 @@ def render_table(report: dict) -> str:
 
         out += ["", "design window (every other value as designed; every rule within its derated limit):"]
         out += [f"  {describe(w)}" for w in report["windows"]] or ["  no value to vary"]
-    mc = report.get("monte_carlo")
-    if mc is not None:
-        out += ["", _yield_text(mc)]
-        for r in mc["rules"]:
-            if r["past_limit"]["count"]:
-                out.append(
-                    f"  {r['rule']}: past the derated limit {_share(r['past_limit'])}, "
-                    f"past the rating {_share(r['past_rating'])}"
-                )
     return "\n".join(out) + "\n"
-
-
-def _share(s: dict) -> str:
-    return f"{100 * s['fraction']:.2f} % ({100 * s['low']:.2f}–{100 * s['high']:.2f} %)"
-
-
-def _yield_text(mc: dict) -> str:
-    return (
-        f"yield over {mc['samples']} samples (seed {mc['seed']}; {mc['confidence']}): "
-        f"within every derated limit {_share(mc['yield']['within_limits'])}, "
-        f"within every rating {_share(mc['yield']['within_ratings'])}"
-    )
