@@ -1,4 +1,4 @@
-"""The ``clampdown`` command line: check, schema, netlist (and the web app's commands).
+"""The ``clampdown`` command line: check, schema, netlist, draw (and the web app's commands).
 
 Exit codes: 0 no violation, 1 a violation (or a marginal finding with --strict), 2 bad input,
 3 an internal error (a bug: one line on standard error asks for the design file). `check` takes
@@ -129,7 +129,34 @@ def design_files(paths: list[str]) -> list[tuple[str, InputError | None]]:
 
 def _extras(args: argparse.Namespace) -> dict:
     """What the report adds on request (the engine's keyword arguments)."""
-    return {"windows": True} if args.windows else {}
+    extras: dict = {"windows": True} if args.windows else {}
+    if args.tighten:
+        extras["tighten"] = True
+    if args.samples is not None:
+        extras.update(samples=args.samples, seed=args.seed)
+    return extras
+
+
+def _sample_count(text: str) -> int:
+    from .engine.montecarlo import MAX_SAMPLES
+
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if not 1 <= value <= MAX_SAMPLES:
+        raise argparse.ArgumentTypeError(f"from 1 to {MAX_SAMPLES}, not {value}")
+    return value
+
+
+def _seed(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if not 0 <= value < 2**63:
+        raise argparse.ArgumentTypeError(f"from 0 to 2**63 − 1, not {value}")
+    return value
 
 
 def _exit_code(report: dict, strict: bool) -> int:
@@ -254,17 +281,45 @@ def _schema(args: argparse.Namespace) -> int:
 def _netlist(args: argparse.Namespace) -> int:
     from .engine.clamps import kind_of
     from .engine.netlist import netlist
+    from .engine.switches import switch_kind
 
     design = load_design_file(args.file)
-    if kind_of(design.clamp).unclamped:
+    clamp = kind_of(design.clamp)
+    if clamp.is_unclamped(design.clamp) and not switch_kind(design.switch).simulates_avalanche:
+        what = '"none"' if clamp.unclamped else f'"{clamp.kind}" (clamp.common_to "unconnected")'
         raise InputError.about(
-            args.file, [("clamp.kind", '"none" has no finite turn-off to simulate; add a clamp')]
+            args.file, [("clamp.kind", f"{what} has no finite turn-off to simulate; add a clamp")]
         )
     text = netlist(design, args.corner)
     if args.output:
         Path(args.output).write_text(text, encoding="utf-8")
     else:
         print(text, end="")
+    return 0
+
+
+def _draw(args: argparse.Namespace) -> int:
+    from .engine.profile import DEFAULT_PROFILE
+    from .pictures import NAMES, draw
+
+    profile = load_profile_file(args.profile) if args.profile else DEFAULT_PROFILE
+    design = load_design_file(args.file)
+    folder = Path(args.output)
+    if folder.exists() and not folder.is_dir():
+        raise InputError.about(args.output, [("", "is a file; give a folder to write the pictures into")])
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise InputError.about(args.output, [("", f"cannot be made ({exc.strerror})")]) from None
+    stem = args.name or (Path(args.file).stem if args.file != "-" else "design")
+    which = tuple(args.only) if args.only else tuple(NAMES)
+    for name, picture in draw(design, profile, which).items():
+        path = folder / f"{stem}-{name}.svg"
+        try:
+            path.write_text(picture.svg, encoding="utf-8")
+        except OSError as exc:
+            raise InputError.about(str(path), [("", f"cannot be written ({exc.strerror})")]) from None
+        print(f"{path}: {picture.title}. {picture.caption}")
     return 0
 
 
@@ -304,6 +359,18 @@ def build_parser() -> argparse.ArgumentParser:
         "values inside it",
     )
     check.add_argument(
+        "--tighten",
+        action="store_true",
+        help="add what to tighten: each tolerance halved in turn and how far it moves each rule's margin",
+    )
+    check.add_argument(
+        "--samples",
+        type=_sample_count,
+        metavar="N",
+        help="add the Monte Carlo yield of N seeded draws of every toleranced quantity",
+    )
+    check.add_argument("--seed", type=_seed, default=1, help="seed of the Monte Carlo draws (default 1)")
+    check.add_argument(
         "--profile",
         metavar="FILE",
         help="derating profile (JSON, clampdown-profile/1: name and the figures to change; "
@@ -324,6 +391,28 @@ def build_parser() -> argparse.ArgumentParser:
     )
     net.add_argument("-o", "--output", help="file to write (default: standard output)")
     net.set_defaults(run=_netlist)
+
+    pictures = sub.add_parser(
+        "draw",
+        help="write the pictures of a design as SVG files: the stage, its turn-off, its margins over temperature",
+    )
+    pictures.add_argument("file", help="design file (JSON, clampdown-design/1), or - for standard input")
+    pictures.add_argument(
+        "-o", "--output", default=".", metavar="FOLDER", help="folder to write into (default: here)"
+    )
+    pictures.add_argument(
+        "--name",
+        help="file name stem (default: the design file's); files are STEM-schematic.svg, "
+        "STEM-turnoff.svg, STEM-margins.svg",
+    )
+    pictures.add_argument(
+        "--only",
+        action="append",
+        choices=("schematic", "turnoff", "margins"),
+        help="draw only this picture (repeatable)",
+    )
+    pictures.add_argument("--profile", metavar="FILE", help="derating profile (JSON, clampdown-profile/1)")
+    pictures.set_defaults(run=_draw)
 
     for add in EXTRA_COMMANDS:
         add(sub)

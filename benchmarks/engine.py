@@ -1,6 +1,6 @@
 """Speed of one full review against one ngspice run of the same circuit, in the same run.
 
-    python benchmarks/engine.py [--designs 200] [--seed 2024]
+    python benchmarks/engine.py [--designs 200] [--seed 2024] [--samples 100000]
 
 Generates seeded random designs of every clamp kind (tests/designgen.py), then prints the
 median time of app.engine.evaluate (every rule, every worst-case corner, the turn-off) and
@@ -47,6 +47,9 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--designs", type=int, default=200)
     parser.add_argument("--seed", type=int, default=2024)
+    parser.add_argument(
+        "--samples", type=int, default=100_000, help="Monte Carlo samples of one design (0: skip)"
+    )
     args = parser.parse_args()
 
     rng = random.Random(args.seed)
@@ -100,6 +103,24 @@ def main() -> None:
         f"cpu:     {engine_cpu_ms:.3f} ms per evaluation, {spice_cpu_ms:.3f} ms per ngspice run (means): "
         f"{spice_cpu_ms / engine_cpu_ms:.1f}x"
     )
+    if args.samples:
+        # Monte Carlo: N samples of one design, against 20 ngspice runs of one corner (the goal:
+        # less time). One design of each clamp kind, the median over them.
+        from app.engine.montecarlo import monte_carlo
+
+        picked = {kind_of(d.clamp).kind: d for d in designs}
+        times = {}
+        for kind, design in picked.items():
+            start = time.perf_counter()
+            monte_carlo(design, samples=args.samples, seed=1)
+            times[kind] = time.perf_counter() - start
+        mc_ms = _median_ms(list(times.values()))
+        each = ", ".join(f"{k} {v * 1e3:.0f} ms" for k, v in times.items())
+        print(f"monte carlo: {args.samples} samples of one design, median {mc_ms:.0f} ms ({each})")
+        print(
+            f"ratio:   {args.samples} samples take {mc_ms / (20 * spice_ms):.2f}x the time of 20 ngspice runs "
+            "(goal < 1)"
+        )
 
 
 if __name__ == "__main__":

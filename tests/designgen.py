@@ -7,6 +7,10 @@ and drop-out sit where relay makers put them, a TVS breaks down above the highes
 Some numbers are written as strings in engineering notation ("4k7", "120 mH", "10%") so
 the unit parser is exercised too. A design may well fail review; it is only ever valid.
 
+``random_switch_design(rng, switch_kind, clamp_kind)`` does the same for an N-channel MOSFET
+or a Darlington array channel (``random_design(rng, "array_diode")`` is a Darlington channel
+whose common pin goes through a zener; ``common_to`` picks the others).
+
 Ranges (common practice for small relay and solenoid drivers, not from a standard):
 supply 5–48 V, coil 50 Ω–2 kΩ and 10 mH–2 H, must-operate 60–75 % and drop-out about 10 %
 of the nominal coil voltage, rectifier V_F 0.7–1.2 V, zener 5–40 V.
@@ -17,7 +21,17 @@ from __future__ import annotations
 import math
 import random
 
-CLAMP_KINDS = ("none", "diode", "diode_zener", "diode_resistor", "resistor", "tvs_switch", "rc")
+CLAMP_KINDS = (
+    "none",
+    "diode",
+    "diode_zener",
+    "diode_resistor",
+    "resistor",
+    "tvs_switch",
+    "rc",
+    "array_diode",
+)
+SWITCH_KINDS = ("npn", "nmos", "darlington_array")
 
 _PREFIXES = ((1e-12, "p"), (1e-9, "n"), (1e-6, "u"), (1e-3, "m"), (1.0, ""), (1e3, "k"), (1e6, "M"))
 _SUPPLIES = (5.0, 6.0, 9.0, 12.0, 15.0, 24.0, 28.0, 36.0, 48.0)
@@ -146,6 +160,8 @@ def random_design(rng: random.Random, clamp_kind: str) -> dict:
     """One random valid design with the given clamp kind (one of CLAMP_KINDS)."""
     if clamp_kind not in CLAMP_KINDS:
         raise ValueError(f"clamp_kind must be one of {CLAMP_KINDS}, not {clamp_kind!r}")
+    if clamp_kind == "array_diode":
+        return random_switch_design(rng, "darlington_array", "array_diode", common_to="zener")
     w = _Writer(rng, text_share=rng.choice((0.0, 0.3)))
 
     # Supply: a standard rail, within 5–48 V.
@@ -282,6 +298,97 @@ def random_design(rng: random.Random, clamp_kind: str) -> dict:
         design["switching"] = {"per_hour": float(rng.choice((1, 10, 60, 600, 3600)))}
     if rng.random() < 0.3:
         design["requirements"] = {"max_release_time": w(_rounded(_log_uniform(rng, 1e-3, 50e-3), 2), "s")}
+    return design
+
+
+def _random_zener(rng: random.Random, w: _Writer) -> dict:
+    return {
+        "vz": _rounded(rng.uniform(5.0, 30.0), 3),
+        "tolerance": w.percent(rng.choice((0.02, 0.05, 0.1))),
+        "rz": w(_rounded(rng.uniform(1.0, 40.0), 3), "Ω"),
+        "p_max": w(rng.choice((0.5, 1.0, 1.3, 3.0)), "W"),
+    }
+
+
+def random_switch_design(
+    rng: random.Random, switch_kind: str, clamp_kind: str, *, common_to: str | None = None
+) -> dict:
+    """A random valid design with the given switch kind ("npn", "nmos", "darlington_array") and
+    clamp kind; ``common_to`` ("supply", "zener", "unconnected") for an "array_diode" clamp."""
+    if switch_kind not in SWITCH_KINDS:
+        raise ValueError(f"switch_kind must be one of {SWITCH_KINDS}, not {switch_kind!r}")
+    design = random_design(rng, "diode" if clamp_kind == "array_diode" else clamp_kind)
+    if switch_kind == "npn":
+        return design
+    w = _Writer(rng, text_share=rng.choice((0.0, 0.3)))
+    supply = design["supply"]
+    nominal = (
+        float(supply["nominal"])
+        if not isinstance(supply["nominal"], str)
+        else float(supply["nominal"].split()[0])
+    )
+    v_high = nominal * 1.2 if "max" not in supply else float(supply["max"])
+    base = design.pop("base")
+    if switch_kind == "nmos":
+        level = rng.choice((2.5, 4.5, 4.5, 10.0))
+        vgs_th_max = _rounded(level * rng.uniform(0.35, 0.6), 3)
+        vds = float(rng.choice([v for v in (20, 30, 40, 60, 100) if v > v_high] or [100]))
+        design["switch"] = {
+            "kind": "nmos",
+            "name": f"random N-MOSFET {vds:g} V",
+            "vds_max": w(vds, "V"),
+            "id_max": w(rng.choice((0.3, 0.5, 1.0, 2.0, 5.0)), "A"),
+            "rds_on": w(_rounded(_log_uniform(rng, 0.02, 5.0), 3), "Ω"),
+            "rds_on_vgs": level,
+            "rds_on_hot": _rounded(rng.uniform(1.4, 1.9), 3),
+            "vgs_th_min": _rounded(vgs_th_max * rng.uniform(0.4, 0.7), 3),
+            "vgs_th_max": vgs_th_max,
+            "vgs_max": float(rng.choice((12, 16, 20))) if level < 12 else 20.0,
+            "p_max": w(rng.choice((0.35, 0.5, 1.0, 2.0)), "W"),
+            "rth_ja": float(rng.choice((60, 100, 250, 350))),
+            "tj_max": float(rng.choice((150, 175))),
+        }
+        if rng.random() < 0.5:
+            design["switch"]["e_as"] = w(_rounded(_log_uniform(rng, 1e-3, 0.1), 3), "J")
+        base["r_series"] = w(_rounded(_log_uniform(rng, 10.0, 1e3), 2), "Ω")
+        design["gate"] = base
+    else:
+        channels = rng.choice((7, 8))
+        design["switch"] = {
+            "kind": "darlington_array",
+            "name": f"random {channels}-channel Darlington array",
+            "channels": channels,
+            "channels_on": rng.randint(1, channels),
+            "r_input": w(float(rng.choice((2700, 3300, 10500))), "Ω"),
+            "vce_sat": _rounded(rng.uniform(0.9, 1.6), 3),
+            "vbe_on": _rounded(rng.uniform(1.8, 2.6), 3),
+            "hfe_min": float(rng.choice((500, 1000, 1500))),
+            "vceo": 50.0 if v_high < 45 else 100.0,
+            "ic_max": w(0.5, "A"),
+            "p_max": w(rng.choice((1.0, 1.5, 2.25)), "W"),
+            "rth_ja": float(rng.choice((55, 70, 110))),
+            "tj_max": 150.0,
+        }
+        if rng.random() < 0.4:
+            base["r_series"] = w(_rounded(_log_uniform(rng, 100.0, 2e3), 2), "Ω")
+            design["base"] = base
+    if clamp_kind == "array_diode":
+        diode = design["clamp"]["diode"]
+        clamp = {
+            "kind": "array_diode",
+            "common_to": common_to or rng.choice(("supply", "zener")),
+            "vf": diode["vf"] if not isinstance(diode.get("vf"), str) else _rounded(rng.uniform(0.9, 1.7), 3),
+            "vf_at": w(_rounded(rng.uniform(0.1, 0.5), 3), "A"),
+            "i_peak": w(0.5, "A"),
+            "vrrm": 50.0 if v_high < 45 else 100.0,
+            "if_avg": w(0.5, "A"),
+        }
+        if isinstance(clamp["vf"], float) and clamp["vf"] < 0.5:
+            clamp["vf"] = 1.0
+        if clamp["common_to"] == "zener":
+            clamp["zener"] = _random_zener(rng, w)
+        design["clamp"] = clamp
+    design["name"] = f"random {switch_kind} {clamp_kind} design {rng.randrange(10**6):06d}"
     return design
 
 

@@ -78,6 +78,7 @@ def test_json_report_contract(tmp_path):
             "unit",
             "limit",
             "rating",
+            "worked",
             "corner",
             "message",
             "bound",

@@ -169,6 +169,18 @@ def test_diode_peak_judged_against_its_surge_rating():
     assert f["clamp.peak_current"]["status"] == "violation"
 
 
+def test_turn_off_current_taken_with_the_highest_saturation_voltage():
+    """Old: at the worst corners the coil current at turn-off was (V_cc − V_CE(sat),max)/R_coil =
+    (12 − 0.2)/160 = 73.75 mA, the least it can be, and every turn-off stress followed it: a diode
+    with a 93 mA repetitive rating (derated 80 %, common practice: 74.4 mA) read "ok". Wrong: a
+    switch that saturates at less than 0.2 V (0 V when no vce_sat_min is given) leaves 12/160 =
+    75 mA in the coil, past the derated rating."""
+    assert I0 < 0.8 * 0.093 < 12 / 160  # 73.75 mA < 74.4 mA < 75 mA
+    f, _ = findings(design(**{"clamp.diode.i_frm": "93 mA", "clamp.diode.i_fsm": 2}))
+    assert f["clamp.peak_current"]["value"] == pytest.approx(12 / 160)
+    assert f["clamp.peak_current"]["status"] == "marginal"
+
+
 def test_energy_share_above_100_percent():
     """Old: with a TVS to ground the energy note said "…, 1xx % of it into the clamp": the TVS
     also absorbs what the supply delivers while the current returns through it (V_cc·Q), so the

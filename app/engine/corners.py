@@ -13,6 +13,7 @@ import numpy as np
 
 from .clamps import kind_of
 from .design import Design, DividerDrive
+from .switches import switch_kind
 
 
 @dataclass(frozen=True)
@@ -64,10 +65,14 @@ def circuit_factors(design: Design) -> list[Factor]:
         Factor("supply", _round(design.supply.low), _round(design.supply.high), "V"),
         Factor("ambient", design.ambient.min, design.ambient.max, "°C"),
         Factor("r_coil", *_spread(design.coil.r_coil, design.coil.tolerance), "Ω"),
-        Factor("r_series", *_spread(design.base.r_series, design.base.tolerance), "Ω"),
     ]
-    if design.base.r_pulldown is not None:
-        out.append(Factor("r_pulldown", *_spread(design.base.r_pulldown, design.base.tolerance), "Ω"))
+    resistors = design.drive_resistors
+    if resistors is not None:
+        out.append(Factor("r_series", *_spread(resistors.r_series, resistors.tolerance), "Ω"))
+        if resistors.r_pulldown is not None:
+            out.append(Factor("r_pulldown", *_spread(resistors.r_pulldown, resistors.tolerance), "Ω"))
+    else:  # no resistor of its own at the input (a Darlington array's is built in)
+        out.append(Factor("r_series", 0.0, 0.0, "Ω"))
     drive = design.drive
     if isinstance(drive, DividerDrive):
         out.append(Factor("r_fixed", *_spread(drive.r_fixed, drive.tolerance), "Ω"))
@@ -77,6 +82,8 @@ def circuit_factors(design: Design) -> list[Factor]:
     else:
         out.append(Factor("drive_on", drive.high_min, drive.high, "V"))
         out.append(Factor("drive_off", drive.low, drive.low_max, "V"))
+    # The switch's own factors (a Darlington array's input resistor) reach the operating point only.
+    out += [Factor(*f) for f in switch_kind(design.switch).factors(design.switch)]
     return out
 
 
@@ -120,10 +127,11 @@ def nominal_corner(design: Design) -> Corners:
         "supply": design.supply.nominal,
         "ambient": ambient,
         "r_coil": design.coil.r_coil,
-        "r_series": design.base.r_series,
     }
-    if design.base.r_pulldown is not None:
-        values["r_pulldown"] = design.base.r_pulldown
+    resistors = design.drive_resistors
+    values["r_series"] = resistors.r_series if resistors is not None else 0.0
+    if resistors is not None and resistors.r_pulldown is not None:
+        values["r_pulldown"] = resistors.r_pulldown
     if isinstance(design.drive, DividerDrive):
         values["r_fixed"] = design.drive.r_fixed
         values["sensor_scale"] = 1.0
@@ -133,5 +141,6 @@ def nominal_corner(design: Design) -> Corners:
         values["drive_on"] = design.drive.high
         values["drive_off"] = design.drive.low
     values.update(kind_of(design.clamp).nominal(design.clamp))
+    values.update(switch_kind(design.switch).nominal(design.switch))
     arrays = {k: np.array([float(v)]) for k, v in values.items()}
     return Corners((), arrays, 1)

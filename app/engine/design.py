@@ -42,6 +42,8 @@ QUANTITY_RANGES: dict[str, tuple[float, float]] = {
     "K": (0.0, 200.0),
     "K/W": (0.0, 10e3),
     "/h": (0.0, 3.6e6),  # 1000 operations a second
+    "J": (1e-9, 1e4),  # avalanche ratings: µJ to a few J
+    "V/K": (-1.0, 1.0),
     "": (0.0, 1e6),
 }
 
@@ -258,6 +260,107 @@ class Transistor(PartModel):
     @property
     def vce_sat_low(self) -> float:
         """The lowest V_CE(sat): the worst case for a stress (more voltage left for the load)."""
+        return self.vce_sat_min if self.vce_sat_min is not None else 0.0
+
+
+class NmosFet(PartModel):
+    """An N-channel enhancement MOSFET as a low-side switch, with the datasheet's guaranteed
+    (worst-case) figures."""
+
+    kind: Literal["nmos"]
+    name: str = Field(min_length=1, max_length=200)
+    vds_max: PositiveVolts = Field(description="V_(BR)DSS, minimum drain-source breakdown")
+    id_max: PositiveAmps = Field(description="continuous drain current rating")
+    rds_on: Annotated[float, *_quantity("Ω", positive=True, low=1e-4, high=1e3)] = Field(
+        description="R_DS(on), maximum at 25 °C, guaranteed at rds_on_vgs"
+    )
+    rds_on_vgs: PositiveVolts = Field(description="the gate voltage V_GS at which rds_on is guaranteed")
+    rds_on_hot: Annotated[float, *_quantity("", positive=True, low=1.0, high=5.0)] = Field(
+        description="R_DS(on) at 125 °C normalised to 25 °C (datasheet curve; typically 1.5–1.8, from memory)"
+    )
+    vgs_th_min: PositiveVolts = Field(description="V_GS(th), minimum gate threshold at 25 °C")
+    vgs_th_max: PositiveVolts = Field(description="V_GS(th), maximum gate threshold at 25 °C")
+    vgs_max: PositiveVolts = Field(description="maximum gate-source voltage |V_GS|")
+    p_max: Watts = Field(description="total dissipation rating at 25 °C ambient")
+    rth_ja: KelvinPerWatt = Field(description="junction-to-ambient thermal resistance")
+    tj_max: Celsius = Field(description="maximum junction temperature")
+    e_as: Annotated[float, *_quantity("J", positive=True)] | None = Field(
+        None, description="single-pulse avalanche energy E_AS at a 25 °C start (optional)"
+    )
+    e_ar: Annotated[float, *_quantity("J", positive=True)] | None = Field(
+        None,
+        description="repetitive avalanche energy E_AR (optional): an avalanche at every turn-off "
+        "is a repeated event; judged against it when given",
+    )
+    vgs_th_tempco: Annotated[float, *_quantity("V/K", low=-0.05, high=0.0)] | None = Field(
+        None,
+        description="temperature coefficient of V_GS(th), V/K; default −5 mV/K (from memory)",
+    )
+
+    @model_validator(mode="after")
+    def _consistent(self) -> NmosFet:
+        if self.tj_max <= 25:
+            raise _problem("tj_max must be above 25 °C")
+        if self.vgs_th_min > self.vgs_th_max:
+            raise _problem(
+                f"vgs_th_min ({self.vgs_th_min:g} V) must not be above vgs_th_max ({self.vgs_th_max:g} V)"
+            )
+        if self.vgs_th_max >= self.vgs_max:
+            raise _problem(f"vgs_th_max ({self.vgs_th_max:g} V) must be below vgs_max ({self.vgs_max:g} V)")
+        if not self.vgs_th_max <= self.rds_on_vgs <= self.vgs_max:
+            raise _problem("rds_on_vgs must lie from vgs_th_max to vgs_max")
+        return self
+
+
+class DarlingtonArray(PartModel):
+    """One channel of a seven- or eight-channel Darlington array (common emitter) with its
+    built-in input resistor; the package dissipation is shared by every channel that conducts."""
+
+    kind: Literal["darlington_array"]
+    name: str = Field(min_length=1, max_length=200)
+    channels: Annotated[int, Field(ge=1, le=16)] = Field(description="channels in the package")
+    channels_on: Annotated[int, Field(ge=1, le=16)] = Field(
+        description="channels that conduct at once, each at this channel's current"
+    )
+    r_input: Ohms = Field(description="the built-in series resistor at each input")
+    r_input_tolerance: Tolerance = Field(0.0, description="tolerance of r_input, percent (optional)")
+    vce_sat: SaturationVolts = Field(description="V_CE(sat), maximum at the channel's current")
+    vce_sat_min: SaturationVolts | None = Field(
+        None, description="V_CE(sat), minimum (optional): the stress checks use it; without it 0 V"
+    )
+    vbe_on: Annotated[float, *_quantity("V", positive=True, low=0.5, high=5.0)] = Field(
+        description="V_I(on): input voltage (two base-emitter drops) that saturates the channel at "
+        "its current, maximum; typically 1.2–2.5 V (from memory)"
+    )
+    vbe_on_min: Annotated[float, *_quantity("V", positive=True, low=0.5, high=5.0)] | None = Field(
+        None,
+        description="the lowest input voltage at which the pair starts to conduct at 25 °C "
+        "(optional; default 1.1 V, two drops of 0.55 V, from memory — the cutoff finding says so)",
+    )
+    hfe_min: Gain = Field(description="minimum DC current gain of the pair")
+    vceo: PositiveVolts = Field(description="output breakdown V_CE(sus) / V_(BR)CEO, minimum")
+    ic_max: PositiveAmps = Field(description="continuous collector current rating per channel")
+    p_max: Watts = Field(description="package dissipation rating at 25 °C ambient")
+    rth_ja: KelvinPerWatt = Field(description="package junction-to-ambient thermal resistance")
+    tj_max: Celsius = Field(description="maximum junction temperature")
+
+    @model_validator(mode="after")
+    def _consistent(self) -> DarlingtonArray:
+        if self.tj_max <= 25:
+            raise _problem("tj_max must be above 25 °C")
+        if self.channels_on > self.channels:
+            raise _problem(f"channels_on ({self.channels_on}) must not exceed channels ({self.channels})")
+        if self.vce_sat_min is not None and self.vce_sat_min > self.vce_sat:
+            raise _problem(
+                f"vce_sat_min ({self.vce_sat_min:g} V) must not be above vce_sat ({self.vce_sat:g} V)"
+            )
+        if self.vbe_on_min is not None and self.vbe_on_min > self.vbe_on:
+            raise _problem(f"vbe_on_min ({self.vbe_on_min:g} V) must not be above vbe_on ({self.vbe_on:g} V)")
+        return self
+
+    @property
+    def vce_sat_low(self) -> float:
+        """The lowest V_CE(sat): the worst case for a stress."""
         return self.vce_sat_min if self.vce_sat_min is not None else 0.0
 
 
@@ -478,8 +581,11 @@ class Base(Model):
     power_rating: Watts
 
 
-# The clamp kinds live one module each in app.engine.clamps, which reads the part models above.
+# The clamp kinds live one module each in app.engine.clamps, which reads the part models above;
+# the switch kinds likewise in app.engine.switches.
 from .clamps import CLAMP_KINDS, Clamp  # noqa: E402
+from .clamps import kind_of as kind_of_clamp  # noqa: E402
+from .switches import SWITCH_KINDS, Switch  # noqa: E402
 
 # Inrush as a multiple of the running current when the design gives none (common practice:
 # motors draw often 5–8× at start and incandescent lamps 10–15×, the upper ends taken; a
@@ -538,8 +644,19 @@ class Limits(Model):
     cutoff: Fraction | None = None
 
 
+class MonteCarlo(Model):
+    """How the Monte Carlo yield draws each quantity the corners vary (app/engine/montecarlo.py)."""
+
+    distributions: dict[str, Literal["normal", "uniform"]] = Field(
+        default_factory=dict,
+        description="per varied quantity (supply, ambient, r_coil, r_series, …): normal (about the "
+        "middle, σ = tolerance/3, clipped) or uniform over its range; unnamed ones keep the default",
+    )
+
+
 class Design(Model):
-    """One relay-driver design: BJT low-side switch, coil, clamp, drive."""
+    """One relay-driver design: a low-side switch (NPN, N-channel MOSFET or a Darlington array
+    channel), coil, clamp, drive."""
 
     format: Literal["clampdown-design/1"] = Field(alias="format")
     name: str = Field(min_length=1, max_length=300)
@@ -547,8 +664,15 @@ class Design(Model):
     supply: Supply
     ambient: Ambient
     drive: Drive
-    base: Base
-    switch: Transistor
+    base: Base | None = Field(
+        None,
+        description="the base resistor R_b and pull-down R_be (an NPN needs it; optional for a "
+        "Darlington array channel, whose input resistor is built in; not for a MOSFET)",
+    )
+    gate: Base | None = Field(
+        None, description='the gate resistor and pull-down of a MOSFET (only for switch.kind "nmos")'
+    )
+    switch: Switch = Field(description='the switch; without a "kind" it is an NPN transistor')
     coil: Coil
     clamp: Clamp
     load: Load | None = Field(
@@ -559,17 +683,41 @@ class Design(Model):
     switching: Switching = Switching()
     requirements: Requirements = Requirements()
     limits: Limits = Limits()
+    monte_carlo: MonteCarlo | None = Field(None, description="how the Monte Carlo yield draws each quantity")
 
     model_config = ConfigDict(extra="forbid", frozen=True, populate_by_name=True)
 
     @model_validator(mode="after")
     def _circuit(self) -> Design:
-        if self.switch.vce_sat >= self.supply.low:
+        from .switches import switch_kind
+
+        kind = switch_kind(self.switch)
+        other = "gate" if kind.resistors == "base" else "base"
+        if getattr(self, other) is not None:
             raise _problem(
-                f"switch.vce_sat ({self.switch.vce_sat:g} V) must be below the lowest supply "
-                f"({self.supply.low:g} V)"
+                f'{other}: a {kind.title} has no {other} resistors; give them as "{kind.resistors}"'
             )
+        if kind.resistors_required and getattr(self, kind.resistors) is None:
+            raise _problem(f"{kind.resistors}: is required for a {kind.title}")
+        problems = kind.problems(self) + kind_of_clamp(self.clamp).problems(self)
+        if problems:
+            raise _problem("; ".join(problems))
+        if self.monte_carlo is not None and self.monte_carlo.distributions:
+            from .corners import factors
+
+            known = [f.name for f in factors(self)]
+            unknown = sorted(set(self.monte_carlo.distributions) - set(known))
+            if unknown:
+                raise _problem(
+                    f"monte_carlo.distributions: {', '.join(unknown)} is not a quantity this design "
+                    f"varies; allowed: {', '.join(known)}"
+                )
         return self
+
+    @property
+    def drive_resistors(self) -> Base | None:
+        """The series resistor and pull-down at the switch's input (``base`` or ``gate``)."""
+        return self.base if self.base is not None else self.gate
 
 
 # ---------------------------------------------------------------- errors
@@ -583,7 +731,7 @@ class DesignError(ValueError):
         self.problems = problems
 
 
-_TAGS = set(CLAMP_KINDS) | {"logic", "divider"}
+_TAGS = set(CLAMP_KINDS) | set(SWITCH_KINDS) | {"logic", "divider"}
 _MISSING = object()
 
 
@@ -591,7 +739,7 @@ def _path(loc: tuple[Any, ...]) -> str:
     parts: list[str] = []
     for i, item in enumerate(loc):
         # Pydantic puts the union member's tag in the location; users never wrote it.
-        if isinstance(item, str) and item in _TAGS and i > 0 and loc[i - 1] in ("clamp", "drive"):
+        if isinstance(item, str) and item in _TAGS and i > 0 and loc[i - 1] in ("clamp", "drive", "switch"):
             continue
         if isinstance(item, int):
             parts.append(f"[{item}]")

@@ -2,9 +2,11 @@
 engine uses, so that ngspice can check the engine's transient (``clampdown netlist``).
 
 The circuit at the instant the switch opens: the supply, the coil's resistance and
-inductance (carrying I_0), a 0 V source that measures the coil current, and the clamp.
-The switch itself is open (ideal). ``.meas`` lines print the peak switch voltage and the
-time at which the coil current falls to the drop-out current.
+inductance (carrying I_0), a 0 V source that measures the coil current, the clamp, and the
+switch as its kind models it (app/engine/switches/: an ideal current sink for an NPN, a
+gate-controlled R_DS(on) with its body diode for a MOSFET, a channel with its V_CE(sat) for a
+Darlington array). ``.meas`` lines print the peak switch voltage, the time at which the coil
+current falls to the drop-out current and, for an unclamped MOSFET, the avalanche energy.
 """
 
 from __future__ import annotations
@@ -15,6 +17,7 @@ from .clamps import kind_of
 from .clamps.base import g as _g
 from .design import Design
 from .review import build_context
+from .switches import switch_kind
 
 
 def netlist(design: Design, corner: str = "nominal") -> str:
@@ -46,7 +49,11 @@ def netlist(design: Design, corner: str = "nominal") -> str:
     ido = float(op.dropout_current)
     t_expected = float(to.time_to_dropout[index])
     kind = kind_of(design.clamp)
-    clamp_lines = kind.netlist_lines(path, index)
+    switch = switch_kind(design.switch)
+    if path.unclamped and not switch.simulates_avalanche:
+        raise ValueError("an unclamped coil has no finite turn-off to simulate")
+    # Unclamped, the switch's own breakdown (its netlist lines) takes the current.
+    clamp_lines = [] if path.unclamped else kind.netlist_lines(path, index)
     r_coil = float(op.r_coil[index])
     t_stop = 3 * t_expected if np.isfinite(t_expected) and t_expected > 0 else 1e-2
     # The switch is a current sink that carries the coil's current (plus what the clamp
@@ -64,7 +71,7 @@ def netlist(design: Design, corner: str = "nominal") -> str:
         # IC= documents I_0; without uic ngspice takes it from the operating point instead.
         f"LCOIL a b {_g(design.coil.inductance)} IC={_g(i0)}",
         "VSENSE b sw DC 0",
-        f"ISW sw 0 PWL(0 {_g(i_switch)} {_g(t_open)} 0)",
+        *switch.netlist_lines(design, op, index, i_switch, t_open),
         *clamp_lines,
         # The clamp's nodes have no capacitance: with the default RELTOL (1e-3) ngspice
         # accepts junction voltages off by tenths of a volt, and a diode fed by the coil's
@@ -74,6 +81,11 @@ def netlist(design: Design, corner: str = "nominal") -> str:
         f".tran {_g(t_stop / 4000)} {_g(t_stop)} 0 {_g(t_stop / 4000)}",
         ".meas tran peak_switch_voltage MAX v(sw)",
         *kind.dropout_measure(ido),
+        *(
+            [f".meas tran avalanche_energy INTEG par('v(sw)*i(VSENSE)') FROM={_g(t_open)} TO={_g(t_stop)}"]
+            if path.unclamped
+            else []
+        ),
         ".end",
     ]
     return "\n".join(lines) + "\n"

@@ -95,3 +95,9 @@ class BreakdownModel:
         # Far below I_T the logarithm would go negative; a breakdown junction never drives the
         # current, so its voltage stays at 0 V or above (no negative energy at tiny currents).
         return np.maximum(v, 0.0)
+
+
+def temperature_curve(ratio_at_125, temp_c):
+    """A normalised temperature curve through 1 at 25 °C and ``ratio_at_125`` at 125 °C:
+    ratio^((T − 25)/100) (exponential in T, the shape of a MOSFET's R_DS(on) curve)."""
+    return np.power(ratio_at_125, (np.asarray(temp_c, dtype=float) - 25.0) / 100.0)

@@ -12,7 +12,7 @@ from . import ENGINE_VERSION
 from .circuit import operating_point
 from .clamps import DiodeClamp, DiodeZenerClamp, ResistorClamp, kind_of
 from .corners import Corners, corners_at_rows, nominal_corner, worst_corners
-from .design import Design, Diode, Zener
+from .design import QUANTITY_RANGES, Design, Diode, Zener
 from .physics import THERMAL_VOLTAGE, DiodeModel
 from .profile import DEFAULT_PROFILE, Profile
 from .rules import RULES, STATUS_ORDER, Context, Finding
@@ -80,6 +80,8 @@ def _clamp_rules() -> list:
 
 def _passes_ctx(ctx: Context, rules: list | None = None) -> bool:
     for registered in rules if rules is not None else _clamp_rules():
+        if not registered.applies_to(ctx.design):
+            continue
         finding = registered.check(ctx)
         if finding is not None and finding.status in ("violation", "marginal"):
             return False
@@ -101,7 +103,7 @@ def _alternatives(ctx: Context) -> list[dict]:
     diode_part = kind_of(design.clamp).diode(design.clamp) or _GENERIC_RECTIFIER
     diode = DiodeModel.from_part(diode_part)
     i0_worst = float(np.max(ctx.turnoff.initial_current))
-    limit = ctx.profile.voltage * design.switch.vceo
+    limit = ctx.profile.voltage * ctx.switch.breakdown(design.switch)
     v_budget = limit - design.supply.high
     tries: list[tuple[str, list]] = [("diode", [("diode", DiodeClamp(kind="diode", diode=diode_part))])]
     # Zener: V_Z(1 + tol) + V_T·ln(I_0/I_ZT) + (I_0 − I_ZT)·r_Z + V_F(I_0) within the budget.
@@ -126,7 +128,12 @@ def _alternatives(ctx: Context) -> list[dict]:
     if zeners:
         tries.append(("zener", zeners))
     resistors = []
-    r = e24_at_most(v_budget / (i0_worst * (1 + E24_TOLERANCE / 100))) if v_budget > 0 else None
+    # No larger than a design file may give (QUANTITY_RANGES: 1 GΩ), so a tiny coil current
+    # cannot suggest a resistor the design's own model would refuse.
+    r_most = (
+        min(v_budget / (i0_worst * (1 + E24_TOLERANCE / 100)), QUANTITY_RANGES["Ω"][1]) if v_budget > 0 else 0
+    )
+    r = e24_at_most(r_most) if r_most > 0 else None
     while r is not None and len(resistors) < 3:
         p_on = design.supply.high**2 / (r * (1 - E24_TOLERANCE / 100))
         watts = next((w for w in _RESISTOR_WATTS if p_on <= ctx.profile.power * w), None)
@@ -163,6 +170,8 @@ def _alternatives(ctx: Context) -> list[dict]:
             ok = _passes_ctx(alt, rules)
             if not ok:
                 continue
+            # The clamp itself, for the turn-off picture's overlays (not part of the report).
+            ctx.extras.setdefault("alternative_clamps", []).append((label, clamp))
             t_nom = float(alt.turnoff_nominal.time_to_dropout[0])
             t_worst = float(np.max(alt.turnoff.time_to_dropout))
             out.append(
@@ -299,14 +308,26 @@ def _num(x) -> float | None:
     return x if np.isfinite(x) else None
 
 
-def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE, *, windows: bool = False) -> dict:
+def evaluate(
+    design: Design,
+    profile: Profile = DEFAULT_PROFILE,
+    *,
+    windows: bool = False,
+    tighten: bool = False,
+    samples: int | None = None,
+    seed: int = 1,
+) -> dict:
     """Evaluate every rule at its worst corner; return the report (format clampdown-report/1).
 
-    ``windows``: add ``windows``, the design window of every value the designer chose
-    (app/engine/window.py); it evaluates the design a few hundred times, so it is asked for."""
+    Asked for, because each evaluates the design many times: ``windows`` adds ``windows``, the
+    design window of every value the designer chose (app/engine/window.py); ``tighten`` adds
+    ``tighten``, which tolerance moves each rule's margin (app/engine/tighten.py); ``samples``
+    adds ``yield``, the Monte Carlo yield of that many draws with ``seed`` (app/engine/montecarlo.py)."""
     ctx = build_context(design, profile)
     findings: list[Finding] = []
     for registered in RULES.values():
+        if not registered.applies_to(design):
+            continue
         finding = registered.check(ctx)
         if finding is not None:
             findings.append(finding)
@@ -352,6 +373,14 @@ def evaluate(design: Design, profile: Profile = DEFAULT_PROFILE, *, windows: boo
         from .window import design_windows
 
         report["windows"] = design_windows(design, profile)
+    if tighten:
+        from .tighten import what_to_tighten
+
+        report["tighten"] = what_to_tighten(design, profile, report)
+    if samples is not None:
+        from .montecarlo import monte_carlo
+
+        report["yield"] = monte_carlo(design, profile, samples, seed)
     return report
 
 

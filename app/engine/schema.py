@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from .design import DESIGN_FORMAT, Design
+from .switches import KINDS as SWITCH_KINDS
 
 
 def design_schema() -> dict:
@@ -15,4 +16,17 @@ def design_schema() -> dict:
         'string may carry SI prefixes, RKM codes and unit symbols ("4k7", "4.7 kΩ", "120 mH"). '
         'Tolerances are in percent (10 or "10%").'
     )
+    # Which resistor block each switch kind is driven through (the registry's ``resistors``):
+    # required, optional, or not allowed. A switch without a kind is an NPN transistor.
+    rules = []
+    for kind in SWITCH_KINDS.values():
+        other = "gate" if kind.resistors == "base" else "base"
+        then: dict = {"not": {"required": [other]}}
+        if kind.resistors_required:
+            then["required"] = [kind.resistors]
+        switch: dict = {"properties": {"kind": {"const": kind.kind}}}
+        if kind.model.model_fields["kind"].default != kind.kind:  # only the default kind may omit it
+            switch["required"] = ["kind"]
+        rules.append({"if": {"properties": {"switch": switch}}, "then": then})
+    schema["allOf"] = rules
     return schema

@@ -35,17 +35,29 @@ def render_table(report: dict) -> str:
     for f in report["findings"]:
         if f["status"] in ("violation", "marginal"):
             out.append(f"{_LABEL[f['status']]:>9}  {f['rule']}: {f['message']}")
+            if f.get("worked"):
+                out.append(f"{'':>9}  worked: {f['worked']}")
     nom, tr = report["nominal"], report["transient"]
     out.append("")
-    out.append(
-        "nominal: I_C {} , I_B {}, overdrive {}, coil {}, T_J {}".format(
-            format_si(nom["collector_current"], "A"),
-            format_si(nom["base_current"], "A"),
-            format_si(nom["overdrive"], "×"),
-            format_si(nom["coil_voltage"], "V"),
-            format_si(nom["junction_temp"], "°C"),
+    if any(f["rule"].startswith("gate.") for f in report["findings"]):  # a MOSFET
+        out.append(
+            "nominal: I_D {}, gate current {}, coil {}, T_J {}".format(
+                format_si(nom["collector_current"], "A"),
+                format_si(nom["base_current"], "A"),
+                format_si(nom["coil_voltage"], "V"),
+                format_si(nom["junction_temp"], "°C"),
+            )
         )
-    )
+    else:
+        out.append(
+            "nominal: I_C {} , I_B {}, overdrive {}, coil {}, T_J {}".format(
+                format_si(nom["collector_current"], "A"),
+                format_si(nom["base_current"], "A"),
+                format_si(nom["overdrive"], "×"),
+                format_si(nom["coil_voltage"], "V"),
+                format_si(nom["junction_temp"], "°C"),
+            )
+        )
     out.append(
         "turn-off ({}): I_0 {}, peak {}, drop-out after {}, energy {}".format(
             tr["clamp"],
@@ -62,4 +74,13 @@ def render_table(report: dict) -> str:
 
         out += ["", "design window (every other value as designed; every rule within its derated limit):"]
         out += [f"  {describe(w)}" for w in report["windows"]] or ["  no value to vary"]
+    if report.get("tighten") is not None:
+        from .tighten import tighten_lines
+
+        out += ["", "what to tighten (each tolerance halved in turn, the margin it moves):"]
+        out += [f"  {line}" for line in tighten_lines(report["tighten"])] or ["  no tolerance moves a margin"]
+    if report.get("yield") is not None:
+        from .montecarlo import yield_lines
+
+        out += ["", *yield_lines(report["yield"])]
     return "\n".join(out) + "\n"

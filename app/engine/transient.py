@@ -16,7 +16,7 @@ each kind lives in app/engine/clamps/.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, fields, replace
 
 import numpy as np
 
@@ -121,6 +121,63 @@ def integral_turn_off(
         source_energy=source,
         resistor_energy=path.resistor_energy(clamp_energy, diode_energy),
     )
+
+
+@dataclass(frozen=True)
+class Waveform:
+    """The turn-off of one corner over time, from the instant the switch opens (t = 0) until the
+    coil current falls to the drop-out current: time, coil current and switch-node voltage."""
+
+    time: np.ndarray
+    current: np.ndarray
+    switch_voltage: np.ndarray
+    release_time: float  # inf when the current never reaches drop-out
+    decays: bool = True  # False when nothing drives the current down (the curve is empty)
+
+
+def one_corner(path, index: int):
+    """The same clamp path for corner ``index`` alone (every per-corner array cut to length 1)."""
+    size = len(path.vcc)
+    cut = {}
+    for f in fields(path):
+        value = getattr(path, f.name)
+        if isinstance(value, np.ndarray) and value.ndim == 1 and len(value) == size:
+            cut[f.name] = value[index : index + 1]
+    return replace(path, **cut)
+
+
+def decay_time(path, inductance: float, r_coil: float, initial_current: float, currents) -> np.ndarray:
+    """t(i) = ∫ from i to I_0 of L / (R·i + v_c(i)) di for each current i ≤ I_0: the time the
+    coil current takes to fall from I_0 to i. The same integral (and quadrature) as the time to
+    drop-out, with the lower end moved from I_do to i; ``path`` holds one corner."""
+    i = np.asarray(currents, dtype=float)
+    upper = np.full_like(i, float(initial_current))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = _integrate_log(lambda x: inductance / (r_coil * x + path.loop_voltage(x)), i, upper)
+    return np.where(i >= upper, 0.0, t)
+
+
+def integral_waveform(
+    path, inductance: float, r_coil: float, initial_current: float, dropout_current: float, points: int
+) -> Waveform:
+    """The waveform of a v_c(i) clamp: currents from I_0 down to I_do, each at its time t(i); the
+    switch node at V_cc + v_c(i) (for a clamp to ground v_c = v_device − V_cc, so the node is at
+    the device's voltage)."""
+    i0, ido = float(initial_current), float(dropout_current)
+    if not i0 > ido:  # never picked up (or nothing flowing): nothing to release
+        return Waveform(np.array([0.0]), np.array([i0]), np.array([float(path.vcc[0])]), 0.0)
+    # Where the current sits below the clamp's threshold nothing drives it down.
+    lower = ido
+    with np.errstate(divide="ignore", invalid="ignore"):
+        rate = r_coil * lower + float(path.loop_voltage(np.array([[lower]]))[0, 0])
+    if not rate > 0:
+        return Waveform(np.array([]), np.array([]), np.array([]), float("inf"), decays=False)
+    # Denser near I_0, where the clamp voltage changes the slope most, and near I_do.
+    s = (1 - np.cos(np.linspace(0, np.pi, points))) / 2
+    current = i0 - (i0 - lower) * s
+    time = decay_time(path, inductance, r_coil, i0, current)
+    voltage = path.vcc[0] + path.loop_voltage(current[None, :])[0]
+    return Waveform(time, current, np.asarray(voltage, dtype=float), float(time[-1]))
 
 
 def turn_off(path, inductance, r_coil, initial_current, dropout_current, *, energies: bool = True) -> TurnOff:

@@ -38,6 +38,7 @@ UNIT_SPELLINGS: dict[str, tuple[str, ...]] = {
     "°C": ("°C", "degC", "C"),
     "K/W": ("K/W", "°C/W", "C/W"),
     "/h": ("/h",),
+    "V/K": ("V/K", "V/°C"),
     "%": ("%",),
     "": (),
 }

@@ -75,6 +75,8 @@ def _choice(key: str, label: str, title: str, unit: str, series: str, span: floa
 CHOICES: tuple[Choice, ...] = (
     _choice("base.r_series", "R_b", "Base resistor", "Ω", "E24", 1000.0),
     _choice("base.r_pulldown", "R_be", "Base pull-down", "Ω", "E24", 1000.0),
+    _choice("gate.r_series", "R_g", "Gate resistor", "Ω", "E24", 1000.0),
+    _choice("gate.r_pulldown", "R_gs", "Gate pull-down", "Ω", "E24", 1000.0),
     _choice("clamp.zener.vz", "V_Z", "Zener voltage", "V", "E24", 10.0),
     _choice("clamp.r", "R_clamp", "Clamp resistor", "Ω", "E24", 1000.0),
     _choice("clamp.c", "C_clamp", "Snubber capacitor", "F", "E12", 1000.0),
@@ -84,7 +86,8 @@ CHOICES: tuple[Choice, ...] = (
 def judged(design: Design, profile: Profile) -> list[Finding]:
     """Every finding of the design (no alternatives)."""
     ctx = build_context(design, profile, alternatives=False)
-    return [f for f in (r.check(ctx) for r in RULES.values()) if f is not None]
+    rules = [r for r in RULES.values() if r.applies_to(design)]
+    return [f for f in (r.check(ctx) for r in rules) if f is not None]
 
 
 def _failing(findings: list[Finding]) -> set[str]:

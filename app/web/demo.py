@@ -34,7 +34,9 @@ def resolve_parts(db: Session, document: dict) -> tuple[dict, dict[str, int]]:
     for slot, kind in SLOT_KINDS.items():
         ref = get_path(document, slot)
         if isinstance(ref, dict) and set(ref) == {"part"}:
-            part = db.exec(select(Part).where(Part.kind == kind, Part.name == ref["part"])).one()
+            part = db.exec(
+                select(Part).where(Part.kind.in_(parts.kinds_for(kind)), Part.name == ref["part"])
+            ).one()
             set_path(document, slot, part_document(part))
             links[slot] = part.id
     return document, links

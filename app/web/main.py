@@ -17,6 +17,7 @@ from .db import make_engine
 from .deps import csrf_protect
 from .error_handling import ids_in_range
 from .security import COOKIE_NAME, SessionSigner, SignInThrottle
+from .services import pictures
 from .templating import FragmentCache, make_templates
 
 
@@ -183,6 +184,7 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
     )
     app.state.templates = make_templates()
     app.state.fragments = FragmentCache()  # revision page bodies and the home overview
+    app.state.pictures = pictures.STORE  # drawn pictures per content, engine and profile (services/pictures)
     app.state.trail_checks = {}  # the printed record's verification (services/trail.cached_verification)
     from .services.trail import use_key
 

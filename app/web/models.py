@@ -9,10 +9,13 @@ from typing import Any
 from sqlalchemy import JSON, Column, DateTime, Text, UniqueConstraint, event, inspect
 from sqlmodel import Field, SQLModel
 
+from app.engine.switches import part_kinds as _switch_part_kinds
 from app.signoff.canonical import sha256_hex
 
 ROLES = ("designer", "reviewer", "admin")
-PART_KINDS = ("transistor", "diode", "zener", "tvs", "coil")
+# The switch part kinds come from the engine's switch registry (transistor, nmos, darlington_array).
+SWITCH_PART_KINDS = tuple(_switch_part_kinds())
+PART_KINDS = (*SWITCH_PART_KINDS, "diode", "zener", "tvs", "coil")
 
 
 def utcnow() -> datetime:

@@ -84,7 +84,7 @@ def make_templates() -> Jinja2Templates:
         lstrip_blocks=True,
     )
     env.filters.update(si=si, when=when, css_string=css_string, plural=plural, figure=figure)
-    from .services import findings_view, record
+    from .services import findings_view, pictures, record
     from .services.queues import age
     from .services.review import TEXT_NAMES
 
@@ -100,6 +100,7 @@ def make_templates() -> Jinja2Templates:
         direction=findings_view.direction,
         margin_text=findings_view.margin_text,
         text_names=TEXT_NAMES,
+        data_uri=pictures.data_uri,
     )
     return Jinja2Templates(env=env)
 

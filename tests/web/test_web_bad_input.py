@@ -65,7 +65,10 @@ def test_non_numeric_ids_are_refused_not_crashed(reviewer):
 
 def test_unknown_part_kind_in_the_list_says_what_is_allowed(reviewer):
     response = reviewer.get("/parts", params={"kind": "relay"})
-    assert response.status_code == 400 and "allowed: transistor, diode, zener, tvs, coil" in response.text
+    assert (
+        response.status_code == 400
+        and "allowed: transistor, nmos, darlington_array, diode, zener, tvs, coil" in response.text
+    )
 
 
 def test_changing_the_drive_kind_rerenders_the_fields(designer, world):

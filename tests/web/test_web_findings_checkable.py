@@ -81,3 +81,61 @@ def test_the_review_page_has_everything_the_revision_page_has(world, reviewer):
         assert heading in review, heading
     assert review.count('<details class="formula">') >= 10
     assert "accept with a waiver" in review or "comment on this finding" in review  # its own tools too
+
+
+def test_each_finding_shows_its_formula_with_the_worst_corners_numbers(world, reviewer):
+    """The worked formula (the rule's formula with the worst corner's numbers) is on the revision
+    page, the review page and the printed record, as the report gives it."""
+    from markupsafe import escape
+
+    rid = revision_ids(world, K1)[2]
+    report = reviewer.get(f"/api/v1/revisions/{rid}/report").json()
+    saturation = next(f for f in report["findings"] if f["rule"] == "drive.saturation")
+    assert saturation["worked"].startswith("I_B = (")
+    for path in (f"/revisions/{rid}", f"/revisions/{rid}/review"):
+        row = _row(reviewer.get(path).text, "drive.saturation")
+        assert "Worked at the worst corner:" in row and str(escape(saturation["worked"])) in row
+    record = reviewer.get(f"/revisions/{rid}/record").text
+    for f in report["findings"]:
+        assert str(escape(f["worked"])) in record, f["rule"]
+
+
+def test_what_to_tighten_names_the_tolerance_and_its_number(world, reviewer):
+    """The page and the API list, per rule, the tolerances that move its margin when halved, the
+    same figures app/engine/tighten.py gives for the stored design (tests/test_tighten.py checks
+    those by hand)."""
+    from app.engine import parse_design
+    from app.engine.tighten import what_to_tighten
+
+    rid = revision_ids(world, K1)[2]
+    entries = reviewer.get(f"/api/v1/revisions/{rid}/tighten").json()
+    document = reviewer.get(f"/revisions/{rid}/design.json").json()
+    # the fixture's default profile is the built-in one in the demo world
+    assert entries == what_to_tighten(parse_design(document))
+    assert entries, "the demo revision gives tolerances that move its margins"
+    page = reviewer.get(f"/revisions/{rid}/tighten").text
+    first = entries[0]
+    assert first["title"] in page and first["levers"][0]["quantity"] in page
+    assert f"{first['levers'][0]['change'] * 100:+.1f} points" in page
+    assert f'href="/revisions/{rid}/tighten"' in reviewer.get(f"/revisions/{rid}").text
+
+
+def test_monte_carlo_yield_on_demand_with_its_figures_and_refusals(world, reviewer):
+    """The revision's Monte Carlo yield (app/engine/montecarlo.py, checked against closed forms
+    in tests/test_montecarlo.py): the API gives the engine's figures for the stored design, the
+    page shows them, and a sample count out of range is refused by name."""
+    from app.engine import parse_design
+    from app.engine.montecarlo import monte_carlo
+
+    rid = revision_ids(world, K1)[2]
+    got = reviewer.get(f"/api/v1/revisions/{rid}/yield", params={"samples": 2000, "seed": 4}).json()
+    document = reviewer.get(f"/revisions/{rid}/design.json").json()
+    expected = monte_carlo(parse_design(document), samples=2000, seed=4)
+    assert got["yield"] == expected["yield"] and got["rules"] == expected["rules"]
+    page = reviewer.get(f"/revisions/{rid}/yield", params={"samples": 2000, "seed": 4}).text
+    assert f"{expected['yield'] * 100:.2f} %" in page and "Wilson" in page
+    assert f'href="/revisions/{rid}/yield"' in reviewer.get(f"/revisions/{rid}").text
+    for bad in ({"samples": 0}, {"samples": 100_001}, {"samples": "many"}, {"seed": -1}):
+        answer = reviewer.get(f"/api/v1/revisions/{rid}/yield", params=bad)
+        assert answer.status_code in (400, 422), bad
+        assert next(iter(bad)) in answer.text

@@ -56,3 +56,35 @@ def test_the_kept_revision_page_differs_by_role(world, reviewer, designer):
     assert "new revision</a>" not in reviewer.get(f"/revisions/{rev}").text
     assert "new revision</a>" in designer.get(f"/revisions/{rev}").text
     assert "new revision</a>" not in reviewer.get(f"/revisions/{rev}").text
+
+
+def test_fixture_channel_pages_and_api_lists_follow_a_replaced_draft_and_a_change_behind_the_apps_back(
+    world, reviewer
+):
+    """The fixture page's channel table, the channel page's history and the API's fixture list and
+    channel are kept per data version: a replaced draft and a direct database edit both show."""
+    from .conftest import channel_id
+
+    sam = sign_in(world, "sam")
+    k2 = channel_id(world, K2)
+    draft = revision_ids(world, K2)[-1]
+    fixture = reviewer.get(f"/api/v1/channels/{k2}").json()["fixture_id"]
+    urls = (f"/fixtures/{fixture}", f"/channels/{k2}", "/api/v1/fixtures", f"/api/v1/channels/{k2}")
+    for url in urls:
+        assert "samuel" not in reviewer.get(url).text  # kept now
+    before = reviewer.get(f"/api/v1/channels/{k2}").json()["latest"]["verdict"]
+    clampless = sam.get(f"/api/v1/revisions/{revision_ids(world, K1)[0]}").json()["document"]
+    upload = {"file": ("d.json", json.dumps(clampless))}
+    assert sam.post(f"/revisions/{draft}/replace", files=upload).status_code == 303
+    after = reviewer.get(f"/api/v1/channels/{k2}").json()
+    assert after["latest"]["verdict"] == "violation" != before
+    assert after["revisions"][0]["verdict"] == "violation"
+    assert any(
+        c["latest"] and c["latest"]["id"] == draft and c["latest"]["verdict"] == "violation"
+        for f in reviewer.get("/api/v1/fixtures").json()
+        for c in f["channels"]
+    )
+    with world.state.engine.begin() as connection:  # no trail entry, no new id: only the data
+        connection.execute(text("UPDATE user_account SET name = 'samuel' WHERE name = 'sam'"))
+    for url in urls:
+        assert "samuel" in reviewer.get(url).text, url

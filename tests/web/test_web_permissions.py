@@ -46,6 +46,7 @@ def _requests(app, role):
         ("GET", f"/revisions/{rev}", "read", {}),
         ("GET", f"/revisions/{rev}/design.json", "read", {}),
         ("GET", f"/revisions/{rev}/windows", "read", {}),
+        ("GET", f"/revisions/{rev}/pictures/schematic.svg", "read", {}),
         ("GET", "/parts", "read", {}),
         ("GET", "/parts/picker?slot=switch&q=NPN", "read", {}),
         ("GET", "/parts/export.csv?kind=coil", "read", {}),
@@ -66,6 +67,8 @@ def _requests(app, role):
         ("POST", f"/fixtures/{fid}/profile", "edit_profiles", {"data": {"profile": str(prof)}}),
         ("GET", f"/revisions/{rev}/review", "read", {}),
         ("GET", f"/revisions/{rev}/record", "read", {}),
+        ("GET", f"/revisions/{rev}/tighten", "read", {}),
+        ("GET", f"/revisions/{rev}/yield?samples=200", "read", {}),
         (
             "GET",
             f"/revisions/{rev}/record.pdf",
@@ -130,6 +133,8 @@ def _requests(app, role):
         ("GET", f"/api/v1/channels/{c1}", "read", {}),
         ("GET", f"/api/v1/revisions/{rev}", "read", {}),
         ("GET", f"/api/v1/revisions/{rev}/report", "read", {}),
+        ("GET", f"/api/v1/revisions/{rev}/tighten", "read", {}),
+        ("GET", f"/api/v1/revisions/{rev}/yield?samples=200", "read", {}),
         ("POST", "/api/v1/evaluate", "read", {"json": latest_document(app, K1)}),
         (
             "POST",

@@ -15,7 +15,7 @@ def _row(page: str, name: str) -> str:
 def test_home_and_fixture_pages_show_review_state_beside_the_verdict(world, reviewer):
     home = reviewer.get("/").text
     k1 = _row(home, K1)
-    # K1 rev C is past derating under engine 2.0.0 (the demo's K1 now switches a mains load
+    # K1 rev C is past derating under engine 2.1.0 (the demo's K1 now switches a mains load
     # through its contacts); the verdict and the review state stand side by side.
     assert "In review" in k1 and "Past derating" in k1
     assert "approved baseline" in k1 and ">rev B</a>" in k1  # rev C is newest; B is the baseline

@@ -15,6 +15,7 @@ from typing import Annotated, Any, Union
 
 from pydantic import Discriminator, Tag
 
+from .array_diode import ArrayDiode, ArrayDiodeClamp
 from .base import ClampKind, ClampPath, FormSlot, Stress
 from .diode import DiodeAcrossCoil, DiodeClamp
 from .diode_resistor import DiodeResistorAcrossCoil, DiodeResistorClamp
@@ -34,6 +35,7 @@ KINDS: dict[str, ClampKind] = {
         ResistorAcrossCoil(),
         TvsToGround(),
         RcAcrossCoil(),
+        ArrayDiode(),
     )
 }
 CLAMP_KINDS: tuple[str, ...] = tuple(KINDS)
@@ -56,6 +58,7 @@ def part_slots() -> dict[str, str]:
 
 
 __all__ = [
+    "ArrayDiodeClamp",
     "CLAMP_KINDS",
     "KINDS",
     "Clamp",

@@ -16,7 +16,7 @@ from typing import TYPE_CHECKING, Any, ClassVar
 import numpy as np
 
 from ..physics import DiodeModel
-from ..transient import TurnOff, integral_turn_off
+from ..transient import TurnOff, Waveform, integral_turn_off, integral_waveform, one_corner
 
 if TYPE_CHECKING:
     from ..design import Design, Diode, Model
@@ -60,6 +60,7 @@ class Stress:
     derate: str
     unit: str
     message: Callable[[int], str]
+    worked: Callable[[int], str] | None = None  # the formula with a corner's numbers
 
 
 @dataclass(frozen=True)
@@ -93,6 +94,21 @@ class ClampPath:
             self, inductance, r_coil, initial_current, dropout_current, energies=energies
         )
 
+    def waveform(
+        self,
+        index: int,
+        inductance: float,
+        r_coil: float,
+        initial_current: float,
+        dropout_current: float,
+        points: int = 160,
+    ) -> Waveform:
+        """Coil current and switch-node voltage over time at corner ``index``, from the switch
+        opening until the current falls to drop-out (``transient.integral_waveform``)."""
+        return integral_waveform(
+            one_corner(self, index), inductance, r_coil, initial_current, dropout_current, points
+        )
+
 
 class ClampKind:
     """One clamp kind. Subclasses set the class attributes and override what applies."""
@@ -102,6 +118,14 @@ class ClampKind:
     model: ClassVar[type[Model]]
     fields: ClassVar[tuple[FormSlot, ...]] = ()
     unclamped: ClassVar[bool] = False
+
+    def is_unclamped(self, clamp: Any) -> bool:
+        """Whether this clamp leaves the switch to avalanche (no clamp at all)."""
+        return self.unclamped
+
+    def problems(self, design: Design) -> list[str]:
+        """Whatever makes this clamp unusable with this design's switch (field path first)."""
+        return []
 
     # ---------------------------------------------------------------- corners
 

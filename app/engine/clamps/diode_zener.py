@@ -81,4 +81,9 @@ class DiodeZenerAcrossCoil(ClampKind):
             "power",
             "W",
             lambda i: f"zener averages {format_si(float(power[i]), 'W')} at {per_hour:g}/h; {share_text}",
+            lambda i: (
+                f"P_Z = E_Z·f, E_Z = ∫ V_Z(i)·i dt = {format_si(float(to.clamp_energy[i] - to.diode_energy[i]), 'J', 4)}"
+                f" per turn-off from I_0 = {format_si(float(to.initial_current[i]), 'A', 4)}, f = {per_hour:g}/3600 s"
+                f" = {format_si(float(power[i]), 'W', 4)}"
+            ),
         )

@@ -17,7 +17,7 @@ class NoClamp(Model):
 
 @dataclass(frozen=True)
 class AvalanchePath(ClampPath):
-    avalanche: float = 0.0  # V_(BR)CEO, the least the unclamped node reaches
+    avalanche: float = 0.0  # the switch's breakdown (V_(BR)CEO, V_(BR)DSS): the least the node reaches
 
     unclamped = True
     supply_in_loop = True
@@ -37,4 +37,6 @@ class Unclamped(ClampKind):
     unclamped = True
 
     def path(self, clamp, design, vcc, values):
-        return AvalanchePath(vcc, avalanche=design.switch.vceo)
+        from ..switches import switch_kind
+
+        return AvalanchePath(vcc, avalanche=switch_kind(design.switch).breakdown(design.switch))

@@ -37,7 +37,7 @@ import numpy as np
 from pydantic import Field
 
 from ..design import Model, Ohms, PositiveVolts, Tolerance, Watts, _quantity
-from ..transient import TurnOff
+from ..transient import TurnOff, Waveform
 from ..units import format_si
 from .base import ClampKind, ClampPath, FormSlot, Stress, g, spread
 from .diode_resistor import RESISTOR_FIELDS
@@ -160,6 +160,20 @@ def rc_turn_off(
     return peak, t_release, cap
 
 
+def rc_waveform(inductance: float, r_coil: float, r: float, c: float, vcc: float, i0: float, t) -> tuple:
+    """(coil current i(t), switch-node voltage V_cc + R·i(t) + v_C(t)) of one corner at the
+    times t, from the same closed form as ``rc_turn_off``."""
+    resp = response(inductance, np.array([r_coil + r]), np.array([c]))
+    s1, s2 = resp.s1[0], resp.s2[0]
+    c1 = (-r * i0 / inductance - s2 * i0) / (s1 - s2)
+    c2 = i0 - c1
+    one = Response(np.array([s1]), np.array([s2]), resp.underdamped)
+    t = np.asarray(t, dtype=float)
+    current = one.at(c1, c2, t)
+    switch = vcc + one.at(r * c1 + c1 / (c * s1), r * c2 + c2 / (c * s2), t)
+    return current, switch
+
+
 @dataclass(frozen=True)
 class RcPath(ClampPath):
     r: np.ndarray | None = None
@@ -187,6 +201,29 @@ class RcPath(ClampPath):
             capacitor_voltage=cap,
             resistor_energy=to_r + cap_energy,  # plus recharging C at the next turn-on
         )
+
+    def waveform(self, index, inductance, r_coil, initial_current, dropout_current, points=160):
+        """The closed form sampled evenly up to the release time (the last fall of |i| to I_do);
+        ringing needs more points than a monotonic decay, so at least 40 per ring period."""
+        r, c, vcc = float(self.r[index]), float(self.c[index]), float(self.vcc[index])
+        _, t_release, _ = rc_turn_off(
+            inductance,
+            r_coil,
+            self.r[index : index + 1],
+            self.c[index : index + 1],
+            vcc,
+            np.array([initial_current]),
+            dropout_current,
+        )
+        t_end = float(t_release[0])
+        if not t_end > 0:
+            return Waveform(np.array([0.0]), np.array([initial_current]), np.array([vcc]), 0.0)
+        omega = abs(float(np.imag(response(inductance, np.array([r_coil + r]), np.array([c])).s1[0])))
+        rings = omega * t_end / (2 * np.pi)
+        count = int(min(4000, max(points, 40 * rings)))
+        time = np.linspace(0.0, t_end, count)
+        current, switch = rc_waveform(inductance, r_coil, r, c, vcc, initial_current, time)
+        return Waveform(time, current, switch, t_end)
 
 
 class RcAcrossCoil(ClampKind):
@@ -239,5 +276,10 @@ class RcAcrossCoil(ClampKind):
             "V",
             lambda i: (
                 f"snubber capacitor sees up to {format_si(float(v[i]), 'V')}, rated {format_si(rating, 'V')}"
+            ),
+            lambda i: (
+                f"|v_C| = max(R_coil·I_0 = {format_si(float(ctx.op.r_coil[i]), 'Ω', 4)}·"
+                f"{format_si(float(ctx.turnoff.initial_current[i]), 'A', 4)}, the series RLC swing) = "
+                f"{format_si(float(v[i]), 'V', 4)}"
             ),
         )

@@ -117,6 +117,7 @@ class TvsToGround(ClampKind):
             lambda i: (
                 f"TVS stands off {format_si(float(v[i]), 'V')} while the switch is off; {what} {format_si(rating, 'V')}"
             ),
+            lambda i: f"V = V_cc,max = {format_si(float(v[i]), 'V', 4)}",
         )
 
     def energy_stress(self, ctx, share_text):
@@ -131,6 +132,10 @@ class TvsToGround(ClampKind):
             lambda i: (
                 f"peak pulse {format_si(float(pulse[i]), 'W')} into the TVS, rated {format_si(rating, 'W')} "
                 f"(a 10/1000 µs rating; a longer decay allows less); {share_text}"
+            ),
+            lambda i: (
+                f"P_PP = V_TVS(I_0)·I_0 = {format_si(float(to.peak_switch_voltage[i]), 'V', 4)}·"
+                f"{format_si(float(to.initial_current[i]), 'A', 4)} = {format_si(float(pulse[i]), 'W', 4)}"
             ),
         )
 

@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..clamps import Stress
-from .core import Context, Finding, _si, judge, note, rule
+from .core import Context, Finding, _n, _si, judge, note, rule
 
 
 def _judge(ctx: Context, rule_id: str, stress: Stress, suffix: str = "") -> Finding:
@@ -23,6 +23,7 @@ def _judge(ctx: Context, rule_id: str, stress: Stress, suffix: str = "") -> Find
         stress.unit,
         keep_below=True,
         message=lambda i, s: stress.message(i) + suffix,
+        worked=stress.worked,
     )
 
 
@@ -33,7 +34,8 @@ def clamp_reverse(ctx: Context) -> Finding | None:
     diode = ctx.clamp.diode(ctx.design.clamp)
     if diode is None:
         return None
-    v = ctx.op.vcc - ctx.design.switch.vce_sat_low  # lowest V_CE(sat) (vce_sat_min, else 0 V)
+    # The lowest on-voltage of the switch (vce_sat_min, else 0 V; 0 V for a MOSFET).
+    v = ctx.op.vcc - ctx.switch.on_voltage_low(ctx.design.switch)
     return judge(
         ctx,
         "clamp.reverse_voltage",
@@ -43,6 +45,11 @@ def clamp_reverse(ctx: Context) -> Finding | None:
         "V",
         keep_below=True,
         message=lambda i, s: f"{_si(v[i], 'V')} reverse on a {_si(diode.vrrm, 'V')} diode",
+        worked=lambda i: (
+            f"V_R = V_cc,max − {ctx.switch.on_voltage_symbol} = {_n(ctx.op.vcc[i], 'V')} − "
+            f"{_n(ctx.switch.on_voltage_low(ctx.design.switch), 'V')}"
+            f" = {_n(v[i], 'V')}"
+        ),
     )
 
 
@@ -82,6 +89,10 @@ def clamp_peak(ctx: Context) -> Finding | None:
         "A",
         keep_below=True,
         message=lambda i, s: f"{_si(i0[i], 'A')} at every turn-off, rated {_si(rating, 'A')} {what}{surge}",
+        worked=lambda i: (
+            f"I_peak = I_0 = (V_cc − {ctx.switch.on_voltage_symbol})/R_coil = ({_n(ctx.op.vcc[i], 'V')} − "
+            f"{_n(ctx.switch.on_voltage_low(ctx.design.switch), 'V')})/{_n(ctx.op.r_coil[i], 'Ω')} = {_n(i0[i], 'A')}"
+        ),
     )
 
 
@@ -103,6 +114,11 @@ def clamp_average(ctx: Context) -> Finding | None:
         "A",
         keep_below=True,
         message=lambda i, s: f"{_si(avg[i], 'A')} average at {per_hour:g}/h",
+        worked=lambda i: (
+            f"I_avg = Q·f, Q = ∫ L·i/(R·i + v_c(i)) di from I_0/1000 to I_0 = {_n(ctx.turnoff.initial_current[i], 'A')}"
+            f" = {_n(ctx.turnoff.charge[i], 'C')}, f = {per_hour:g}/3600 s: {_n(ctx.turnoff.charge[i], 'C')}·"
+            f"{_n(per_hour / 3600.0, 'Hz')} = {_n(avg[i], 'A')}"
+        ),
     )
 
 
@@ -128,7 +144,7 @@ def clamp_energy(ctx: Context) -> Finding:
         text += f"; with {_si(added, 'J')} from {source}, {_si(total, 'J')} is dissipated"
     if ctx.path.unclamped:
         text += (
-            f"; no clamp: {share:.0%} of it ({_si(absorbed, 'J')}, at least V_(BR)CEO·Q) goes into the switch "
+            f"; no clamp: {share:.0%} of it ({_si(absorbed, 'J')}, at least {ctx.switch.breakdown_symbol}·Q) goes into the switch "
             "as avalanche energy at every turn-off"
         )
     else:
@@ -136,7 +152,11 @@ def clamp_energy(ctx: Context) -> Finding:
     stress = ctx.clamp.energy_stress(ctx, text)
     if stress is not None:
         return _judge(ctx, "clamp.energy", stress)
-    return note(ctx, "clamp.energy", float(to.energy[worst]), "J", text, worst)
+    worked = (
+        f"E = ½·L·I_0² = ½·{_n(ctx.design.coil.inductance, 'H')}·({_n(to.initial_current[worst], 'A')})² = "
+        f"{_n(to.energy[worst], 'J')}"
+    )
+    return note(ctx, "clamp.energy", float(to.energy[worst]), "J", text, worst, worked=worked)
 
 
 @rule("clamp.resistor_power", "Clamp resistor power")
@@ -163,6 +183,24 @@ def clamp_resistor_power(ctx: Context) -> Finding | None:
         power = continuous
         how = "V²/R while on; the turn-off share is not included (no switching.per_hour given)"
     worst = int(np.argmax(power))
+    r_clamp = ctx.corners.values.get("r_clamp")
+
+    def worked(i: int) -> str:
+        parts = []
+        if continuous[i] > 0 and r_clamp is not None:
+            parts.append(
+                f"V²/R = ({_n(ctx.op.vcc[i], 'V')})²/{_n(r_clamp[i], 'Ω')} = {_n(continuous[i], 'W')} while on"
+            )
+        if per_hour is not None:
+            parts.append(
+                f"E_R·f = {_n(energy[i], 'J')}·{per_hour:g}/3600 s = {_n(energy[i] * per_hour / 3600.0, 'W')}"
+            )
+        else:
+            parts.append(f"per turn-off E_R = ∫ i²·R dt = {_n(energy[i], 'J')}")
+        return "; ".join(parts) + (
+            f"; P = {_n(power[i], 'W')}" if per_hour is not None or continuous[i] > 0 else ""
+        )
+
     if per_hour is None and not np.any(continuous > 0):
         w = int(np.argmax(energy))
         return note(
@@ -173,6 +211,7 @@ def clamp_resistor_power(ctx: Context) -> Finding | None:
             f"{_si(energy[w], 'J')} into the clamp resistor per switching cycle; its average power is not "
             "judged: give switching.per_hour",
             w,
+            worked=worked(w),
         )
     if rating is None:
         return note(
@@ -182,6 +221,7 @@ def clamp_resistor_power(ctx: Context) -> Finding | None:
             "W",
             f"{_si(power[worst], 'W')} in the clamp resistor ({how}); not judged: give the clamp's power_rating",
             worst,
+            worked=worked(worst),
         )
     return judge(
         ctx,
@@ -192,6 +232,7 @@ def clamp_resistor_power(ctx: Context) -> Finding | None:
         "W",
         keep_below=True,
         message=lambda i, s: f"{_si(power[i], 'W')} in a {_si(rating, 'W')} resistor ({how})",
+        worked=worked,
     )
 
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import replace
 
 from ..design import INRUSH_MULTIPLES
-from .core import Context, Finding, _si, judge, note, rule
+from .core import Context, Finding, _n, _si, judge, note, rule
 
 
 def _parts(ctx: Context):
@@ -38,6 +38,7 @@ def contact_current(ctx: Context) -> Finding | None:
         message=lambda i, s: (
             f"{load.kind} load {_si(load.current, 'A')} on contacts rated {_si(contacts.current, 'A')}"
         ),
+        worked=lambda i: f"I = the load's running current = {_n(load.current, 'A')}",
     )
 
 
@@ -68,6 +69,7 @@ def contact_inrush(ctx: Context) -> Finding | None:
         "A",
         keep_below=True,
         message=lambda i, s: f"{text} against {_si(rating, 'A')} {against}",
+        worked=lambda i: f"I_inrush = multiple·I = {multiple:g}·{_n(load.current, 'A')} = {_n(inrush, 'A')}",
     )
 
 
@@ -105,4 +107,5 @@ def contact_voltage(ctx: Context) -> Finding | None:
         message=lambda i, s: (
             f"{_si(load.voltage, 'V')} {kind} load on contacts rated {_si(rating, 'V')} {kind}"
         ),
+        worked=lambda i: f"V = the load's {kind} voltage = {_n(load.voltage, 'V')}",
     )

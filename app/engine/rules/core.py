@@ -19,6 +19,7 @@ from ..clamps import ClampKind, ClampPath, kind_of
 from ..corners import Corners
 from ..design import Design
 from ..profile import Profile
+from ..switches import SwitchKind, switch_kind
 from ..transient import TurnOff
 from ..units import format_si
 
@@ -40,6 +41,8 @@ class Finding:
     # "upper": the value must stay at or below the limit (a stress); "lower": at or above it (a
     # margin); None for notes and findings with no limit.
     bound: str | None = None
+    # The rule's formula with the worst corner's numbers substituted, as checked on paper.
+    worked: str | None = None
 
     def as_dict(self) -> dict:
         def num(x):
@@ -56,6 +59,7 @@ class Finding:
             "corner": self.corner,
             "message": self.message,
             "bound": self.bound,
+            "worked": self.worked,
         }
 
 
@@ -77,24 +81,36 @@ class Context:
         """The registry entry of the design's clamp kind (its ratings hooks)."""
         return kind_of(self.design.clamp)
 
+    @property
+    def switch(self) -> SwitchKind:
+        """The registry entry of the design's switch kind (its ratings)."""
+        return switch_kind(self.design.switch)
+
 
 @dataclass(frozen=True)
 class Rule:
     id: str
     title: str
     check: Callable[[Context], Finding | None]
+    # The switch kinds the rule makes sense for (app/engine/switches/); None: every kind.
+    kinds: tuple[str, ...] | None = None
 
     @property
     def formula(self) -> str:
         return inspect.cleandoc(self.check.__doc__ or "")
 
+    def applies_to(self, design: Design) -> bool:
+        return self.kinds is None or design.switch.kind in self.kinds
+
 
 RULES: dict[str, Rule] = {}
 
 
-def rule(rule_id: str, title: str):
+def rule(rule_id: str, title: str, *, kinds: tuple[str, ...] | None = None):
+    """Register a rule; ``kinds`` names the switch kinds it applies to (skipped for the others)."""
+
     def register(check: Callable[[Context], Finding | None]):
-        RULES[rule_id] = Rule(rule_id, title, check)
+        RULES[rule_id] = Rule(rule_id, title, check, kinds)
         return check
 
     return register
@@ -129,6 +145,7 @@ def judge(
     keep_below: bool,
     message: Callable[[int, Status], str],
     hot_coil: bool = False,
+    worked: Callable[[int], str] | None = None,
 ) -> Finding:
     """Pick the worst corner and its status.
 
@@ -136,6 +153,7 @@ def judge(
     it (a margin). Beyond the absolute rating is a violation, beyond the derated limit marginal.
     The worst corner is the one furthest past the rating if any is, else past the limit.
     ``hot_coil``: the rule uses the self-heated coil (the corner then records that coil).
+    ``worked``: the formula with the numbers of a corner substituted, ending in the value.
     """
     n = ctx.corners.size
     value = np.asarray(value, dtype=float)
@@ -158,6 +176,13 @@ def judge(
             if nonpositive.any():
                 over_rating = np.where(nonpositive, np.inf, over_rating)
                 over_limit = np.where(nonpositive, np.inf, over_limit)
+    per_corner = ctx.extras.get("per_corner")
+    if per_corner is not None:  # every corner's own outcome, for the Monte Carlo yield
+        # "not within" rather than "past": a value that cannot be judged (NaN) is never a pass.
+        past = (~(np.asarray(over_rating) <= 1), ~(np.asarray(over_limit) <= 1))
+        if rule_id in per_corner:  # a rule judged two ways: past either
+            past = (per_corner[rule_id][0] | past[0], per_corner[rule_id][1] | past[1])
+        per_corner[rule_id] = past
     worst_rating = int(np.argmax(over_rating))
     if over_rating[worst_rating] > 1:
         worst, status = worst_rating, "violation"
@@ -175,6 +200,7 @@ def judge(
         corner=corner_used(ctx, worst, hot_coil=hot_coil),
         message=message(worst, status),
         bound="upper" if keep_below else "lower",
+        worked=worked(worst) if worked is not None else None,
     )
 
 
@@ -187,11 +213,31 @@ def worse(*findings: Finding | None) -> Finding | None:
 
 
 def note(
-    ctx: Context, rule_id: str, value: float | None, unit: str, message: str, index: int | None = None
+    ctx: Context,
+    rule_id: str,
+    value: float | None,
+    unit: str,
+    message: str,
+    index: int | None = None,
+    worked: str | None = None,
 ) -> Finding:
     corner = corner_used(ctx, index) if index is not None else {}
-    return Finding(rule_id, RULES[rule_id].title, "note", value, unit, None, None, corner, message)
+    return Finding(
+        rule_id, RULES[rule_id].title, "note", value, unit, None, None, corner, message, worked=worked
+    )
 
 
 def _si(x: float, unit: str) -> str:
     return format_si(float(x), unit)
+
+
+def _n(x: float, unit: str = "") -> str:
+    """A number in a worked formula: four significant digits, enough to check by hand; a negative
+    number in brackets with a true minus sign, so "150 °C − (−10 °C)" reads right."""
+    text = format_si(float(x), unit, digits=4)
+    return f"(−{text[1:]})" if text.startswith("-") else text
+
+
+def _sum_r(*parts: tuple[str, float]) -> str:
+    """R_a + R_b written with the numbers, leaving out the parts that are zero."""
+    return " + ".join(_n(r, "Ω") for _, r in parts if r) or "0 Ω"

@@ -7,7 +7,7 @@ from datetime import UTC, datetime
 from typing import Annotated, Any
 
 from fastapi import APIRouter, Body, Query, Request, Response
-from pydantic import AfterValidator, BaseModel, Field
+from pydantic import AfterValidator, BaseModel, Field, TypeAdapter
 
 from app.engine import ENGINE_VERSION
 from app.engine.design import PART_DETAILS
@@ -27,7 +27,7 @@ from ..deps import (
 from ..paging import MAX_OFFSET
 from ..services import fixtures, parts, review, revisions, users
 from ..services.errors import InputProblems
-from ..services.reports import evaluate_document
+from ..services.reports import evaluate_document, tighten_for, yield_for
 from ..services.revisions import validate_document
 
 
@@ -272,6 +272,18 @@ def _limit(request: Request, limit: int | None) -> int:
     return limit
 
 
+def _cached_json(request: Request, db, key: tuple, model: Any, build) -> bytes:
+    """A list's JSON body, the same for everyone who looks, kept until the data version moves
+    (database triggers bump it on every change) or the engine version changes: a repeated
+    request neither rebuilds nor re-validates the objects."""
+    key = ("api", *key, *fixtures.overview_version(db))
+    found = request.app.state.fragments.get(key)
+    if found is None:
+        found = TypeAdapter(model).dump_json(build())
+        request.app.state.fragments.put(key, found)
+    return found
+
+
 def _link_next(request: Request, response: Response, limit: int, offset: int, total: int) -> None:
     """Paging headers: X-Total-Count, and a Link to the next page (RFC 8288) while there is one."""
     response.headers["X-Total-Count"] = str(total)
@@ -288,9 +300,16 @@ def list_fixtures(
     revision's status. X-Total-Count gives the number of fixtures; a Link header with rel="next"
     points to the next page while there is one."""
     limit = _limit(request, limit)
-    page = [_fixture(f, channels) for f, channels in fixtures.overview(db, limit=limit, offset=offset)]
-    _link_next(request, response, limit, offset, fixtures.count_fixtures(db))
-    return page
+    body = _cached_json(
+        request,
+        db,
+        ("fixtures", limit, offset),
+        list[FixtureOut],
+        lambda: [_fixture(f, channels) for f, channels in fixtures.overview(db, limit=limit, offset=offset)],
+    )
+    out = Response(body, media_type="application/json")
+    _link_next(request, out, limit, offset, fixtures.count_fixtures(db))
+    return out
 
 
 @router.post("/fixtures", response_model=FixtureOut, status_code=201)
@@ -327,13 +346,21 @@ def get_channel(
     offset; X-Total-Count and a Link rel="next" header as for the fixture list)."""
     channel = fixtures.get_channel(db, channel_id)
     limit = _limit(request, limit)
-    history = fixtures.history(db, channel_id, limit=limit, offset=offset)
-    latest = (
-        history[0] if history and offset == 0 else next(iter(fixtures.history(db, channel_id, limit=1)), None)
-    )
-    _link_next(request, response, limit, offset, fixtures.count_revisions(db, channel_id))
-    base = _channel(channel, latest)
-    return ChannelDetail(**base.model_dump(), revisions=[_summary(r) for r in history])
+
+    def build() -> ChannelDetail:
+        history = fixtures.history(db, channel_id, limit=limit, offset=offset)
+        latest = (
+            history[0]
+            if history and offset == 0
+            else next(iter(fixtures.history(db, channel_id, limit=1)), None)
+        )
+        base = _channel(channel, latest)
+        return ChannelDetail(**base.model_dump(), revisions=[_summary(r) for r in history])
+
+    body = _cached_json(request, db, ("channel", channel_id, limit, offset), ChannelDetail, build)
+    out = Response(body, media_type="application/json")
+    _link_next(request, out, limit, offset, fixtures.count_revisions(db, channel_id))
+    return out
 
 
 # ---------------------------------------------------------------- revisions and reports
@@ -400,6 +427,20 @@ def get_revision(db: DB, user: Viewer, revision_id: int):
 def get_report(db: DB, user: Viewer, revision_id: int) -> dict[str, Any]:
     """The report (clampdown-report/1) for the revision, from the cache for this engine version."""
     return revisions.revision_view(db, revision_id).report.body
+
+
+@router.get("/revisions/{revision_id}/tighten")
+def get_tighten(db: DB, user: Viewer, revision_id: int) -> list[dict[str, Any]]:
+    """What to tighten: per rule with a margin, each tolerance that moves it and by how much when
+    halved (margins as fractions of the derated limit), tightest rule first."""
+    return tighten_for(db, revisions.get_revision(db, revision_id))
+
+
+@router.get("/revisions/{revision_id}/yield")
+def get_yield(db: DB, user: Viewer, revision_id: int, samples: int = 10_000, seed: int = 1) -> dict[str, Any]:
+    """Monte Carlo yield of ``samples`` seeded draws (at most 100 000): per rule the fraction past
+    its rating and past its derated limit with 95 % Wilson intervals, and the overall yield."""
+    return yield_for(db, revisions.get_revision(db, revision_id), samples, seed)
 
 
 @router.post("/evaluate")

@@ -28,6 +28,26 @@ def _overview_html(request: Request, db, page: Page) -> Markup:
     return html
 
 
+def _fragment(request: Request, key: tuple, build):
+    """A rendered piece of a page that is the same for everyone who looks, kept until the data
+    version moves (every change to fixtures, channels, revisions, reports, the trail and accounts
+    bumps it, by database triggers) or the engine version changes."""
+    found = request.app.state.fragments.get(key)
+    if found is None:
+        found = build()
+        request.app.state.fragments.put(key, found)
+    return found
+
+
+def _channels_html(request: Request, db, fixture_id: int) -> Markup:
+    def build():
+        [(_, channels)] = fixtures.overview(db, fixture_id)
+        template = request.app.state.templates.get_template("partials/_channel_table.html")
+        return Markup(template.render(channels=channels))
+
+    return _fragment(request, ("fixture-channels", fixture_id, *fixtures.overview_version(db)), build)
+
+
 def _queues(request: Request, db, user) -> queues.Queues:
     """The person's queues, kept until anything is added to the trail (every hand-in, send-back,
     sign-off and save appends an entry, so the overview version moves with them)."""
@@ -89,12 +109,12 @@ def _profile_context(db, fixture) -> dict:
 
 @router.get("/fixtures/{fixture_id}")
 def fixture_page(request: Request, db: DB, user: Viewer, fixture_id: int, profile_saved: bool = False):
-    [(fixture, channels)] = fixtures.overview(db, fixture_id)
+    fixture = fixtures.get_fixture(db, fixture_id)
     return render(
         request,
         "fixture.html",
         fixture=fixture,
-        channels=channels,
+        channels_html=_channels_html(request, db, fixture_id),
         errors={},
         form={},
         profile_saved=profile_saved,
@@ -109,13 +129,13 @@ def create_channel(request: Request, db: DB, user: FixtureEditor, fixture_id: in
     try:
         channel = fixtures.create_channel(db, fixture_id, values["name"], values["load"], mains)
     except InputProblems as exc:
-        [(fixture, channels)] = fixtures.overview(db, fixture_id)
+        fixture = fixtures.get_fixture(db, fixture_id)
         return render(
             request,
             "fixture.html",
             status_code=exc.status_code,
             fixture=fixture,
-            channels=channels,
+            channels_html=_channels_html(request, db, fixture_id),
             errors=dict(exc.problems),
             form=values,
             **_profile_context(db, fixture),
@@ -126,11 +146,23 @@ def create_channel(request: Request, db: DB, user: FixtureEditor, fixture_id: in
 def channel_context(request: Request, db, channel_id: int, number: int = 1) -> dict:
     """The channel page: the channel, its fixture, and one page of its history, newest first."""
     channel = fixtures.get_channel(db, channel_id)
-    page = Page.of(number, request.app.state.settings.page_size, fixtures.count_revisions(db, channel_id))
+    version = fixtures.overview_version(db)
+    total = _fragment(
+        request, ("revision-count", channel_id, *version), lambda: fixtures.count_revisions(db, channel_id)
+    )
+    page = Page.of(number, request.app.state.settings.page_size, total)
+
+    def build():
+        template = request.app.state.templates.get_template("partials/_revision_history.html")
+        history = fixtures.history(db, channel_id, limit=page.size, offset=page.offset)
+        return Markup(template.render(history=history))
+
     return {
         "channel": channel,
         "fixture": fixtures.get_fixture(db, channel.fixture_id),
-        "history": fixtures.history(db, channel_id, limit=page.size, offset=page.offset),
+        "history_html": _fragment(
+            request, ("channel-history", channel_id, page.number, page.size, *version), build
+        ),
         "page": page,
     }
 

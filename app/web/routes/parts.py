@@ -52,7 +52,7 @@ def part_picker(request: Request, db: DB, user: Viewer, slot: str, q: str = ""):
     found = parts.search_parts(db, SLOT_KINDS[slot], q, limit=50)
     if selected.isdigit() and int(selected) <= 2**31 - 1 and all(str(p.id) != selected for p in found):
         chosen = db.get(parts.Part, int(selected))
-        if chosen is not None and chosen.kind == SLOT_KINDS[slot]:
+        if chosen is not None and chosen.kind in parts.kinds_for(SLOT_KINDS[slot]):
             found.insert(0, chosen)
     return render(
         request, "partials/_part_picker.html", slot=slot, options=found, selected=selected, errors={}

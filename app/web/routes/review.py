@@ -32,7 +32,8 @@ Text = Annotated[str, Form()]
 
 @router.get("/revisions/{revision_id}/review")
 def review_page(request: Request, db: DB, user: Viewer, revision_id: int, sort: str = ""):
-    return render(request, "review.html", **record.page_context(db, revision_id, user, sort=sort))
+    context = record.page_context(db, revision_id, user, sort=sort, store=request.app.state.pictures)
+    return render(request, "review.html", **context)
 
 
 @router.post("/revisions/{revision_id}/hand-in")
@@ -105,7 +106,12 @@ def record_page(request: Request, db: DB, user: Viewer, revision_id: int):
 def _record(request: Request, db, revision_id: int, bounded: bool = False) -> dict:
     state = request.app.state
     return record.record_context(
-        db, revision_id, state.trail_checks, state.settings.record_check_max_age, bounded=bounded
+        db,
+        revision_id,
+        state.trail_checks,
+        state.settings.record_check_max_age,
+        bounded=bounded,
+        store=state.pictures,
     )
 
 

@@ -12,11 +12,11 @@ from app.engine import ENGINE_VERSION, DesignError
 
 from ..deps import DB, DbRoute, PostedForm, RevisionAuthor, Viewer
 from ..permissions import can
-from ..services import findings_view, fixtures, record, revision_form, revisions, trail
+from ..services import findings_view, fixtures, pictures, record, revision_form, revisions, trail
 from ..services.documents import canonical_json, load_json_file
 from ..services.errors import InputProblems
 from ..services.parts import search_parts
-from ..services.reports import evaluate_document, windows_for
+from ..services.reports import WEB_MAX_SAMPLES, evaluate_document, tighten_for, windows_for, yield_for
 from ..templating import redirect_done, render
 from .pages import channel_context
 
@@ -35,7 +35,7 @@ def revision_page(request: Request, db: DB, user: Viewer, revision_id: int, sort
     key = ("revision", revision_id, can_edit, user.id, token, sort, trail.data_version(db), ENGINE_VERSION)
     cached = request.app.state.fragments.get(key)
     if cached is None:
-        context = record.page_context(db, revision_id, user, sort=sort)
+        context = record.page_context(db, revision_id, user, sort=sort, store=request.app.state.pictures)
         body = request.app.state.templates.get_template("partials/_revision_body.html").render(
             **context, can_edit=can_edit, user=user, csrf_token=token
         )
@@ -43,6 +43,42 @@ def revision_page(request: Request, db: DB, user: Viewer, revision_id: int, sort
         request.app.state.fragments.put(key, cached)
     title, body = cached
     return render(request, "revision.html", title=title, body=body)
+
+
+@router.get("/revisions/{revision_id}/tighten")
+def tighten_page(request: Request, db: DB, user: Viewer, revision_id: int):
+    """Which tolerance moves each rule's margin, and by how much when halved."""
+    view = revisions.revision_view(db, revision_id)
+    entries = tighten_for(db, view.revision)
+    return render(
+        request,
+        "tighten.html",
+        title=f"{view.channel.name} rev {view.revision.label}: what to tighten",
+        view=view,
+        entries=entries,
+    )
+
+
+@router.get("/revisions/{revision_id}/yield")
+def yield_page(
+    request: Request, db: DB, user: Viewer, revision_id: int, samples: int = 10_000, seed: int = 1
+):
+    """The Monte Carlo yield, on demand: kept per content, profile version, engine, samples, seed."""
+    view = revisions.revision_view(db, revision_id)
+    r = view.revision
+    key = ("yield", r.content_hash, r.profile_version_id, ENGINE_VERSION, samples, seed)
+    result = request.app.state.fragments.get(key)
+    if result is None:
+        result = yield_for(db, r, samples, seed)
+        request.app.state.fragments.put(key, result)
+    return render(
+        request,
+        "yield.html",
+        title=f"{view.channel.name} rev {r.label}: Monte Carlo yield",
+        view=view,
+        result=result,
+        max_samples=WEB_MAX_SAMPLES,
+    )
 
 
 @router.get("/revisions/{revision_id}/windows")
@@ -69,6 +105,20 @@ def revision_windows(request: Request, db: DB, user: Viewer, revision_id: int):
         channel=channel,
         body=body,
     )
+
+
+@router.get("/revisions/{revision_id}/pictures/{name}.svg")
+def revision_picture(request: Request, db: DB, user: Viewer, revision_id: int, name: str):
+    """One picture of the revision as SVG. A draft's document can be replaced under the same id,
+    so the browser revalidates every time (no-cache) against an ETag of what it was drawn from."""
+    revision = revisions.get_revision(db, revision_id)
+    pictures.check_name(name)
+    tag = f'"{revision.content_hash[:20]}-{ENGINE_VERSION}-{revision.profile_version_id or 0}-{name}"'
+    headers = {"ETag": tag, "Cache-Control": "private, no-cache"}
+    if request.headers.get("if-none-match") == tag:  # the browser has it: nothing to draw or send
+        return Response(status_code=304, headers=headers)
+    drawn = pictures.picture(db, revision, request.app.state.pictures, name)
+    return Response(drawn.svg, media_type="image/svg+xml", headers=headers)
 
 
 @router.get("/revisions/{revision_id}/design.json")
@@ -106,12 +156,16 @@ def _form_context(db, channel_id: int, values: dict[str, str], errors: dict[str,
     }
 
 
-def _preview(db, values: dict[str, str]) -> tuple[dict | None, dict[str, list[str]]]:
+def _preview(db, values: dict[str, str], store=None) -> tuple[dict | None, dict[str, list[str]], dict]:
+    """(report, problems by field, pictures): the pictures only when a store is given (the live
+    preview draws the schematic and the turn-off as the values change)."""
     try:
         document, _ = revision_form.build_document(db, values)
     except InputProblems as exc:
-        return None, revision_form.problems_by_field(exc.problems)
-    return evaluate_document(document), {}
+        return None, revision_form.problems_by_field(exc.problems), {}
+    report = evaluate_document(document)
+    drawn = pictures.for_document(document, store) if store is not None else {}
+    return report, {}, drawn
 
 
 @router.get("/channels/{channel_id}/new")
@@ -124,12 +178,15 @@ def new_revision_page(request: Request, db: DB, user: RevisionAuthor, channel_id
         values = {path: "" for path in revision_form.FIELDS}
         values.update({"name": channel.name, "drive.kind": "logic", "clamp.kind": "diode"})
     values["change_note"] = ""
-    report, errors = _preview(db, values) if latest is not None else (None, {})
+    report, errors, drawn = (
+        _preview(db, values, request.app.state.pictures) if latest is not None else (None, {}, {})
+    )
     return render(
         request,
         "revision_new.html",
         latest=latest,
         report=report,
+        pictures=drawn,
         **_form_context(db, channel_id, values, errors),
     )
 
@@ -137,11 +194,16 @@ def new_revision_page(request: Request, db: DB, user: RevisionAuthor, channel_id
 @router.post("/channels/{channel_id}/preview")
 def preview(request: Request, db: DB, user: RevisionAuthor, channel_id: int, form: PostedForm):
     values = revision_form.values_from_form(form)
-    report, errors = _preview(db, values)
+    report, errors, drawn = _preview(db, values, request.app.state.pictures)
     context = _form_context(db, channel_id, values, errors)
     refresh_fields = request.headers.get("HX-Trigger-Name") in ("drive.kind", "clamp.kind")
     return render(
-        request, "partials/_preview_swap.html", report=report, refresh_fields=refresh_fields, **context
+        request,
+        "partials/_preview_swap.html",
+        report=report,
+        pictures=drawn,
+        refresh_fields=refresh_fields,
+        **context,
     )
 
 
@@ -155,9 +217,17 @@ def save_revision(request: Request, db: DB, user: RevisionAuthor, channel_id: in
             db, channel_id, document, user, values["change_note"], source="form", part_links=links
         )
     except InputProblems as exc:
-        report, _ = _preview(db, values)
+        report, _, drawn = _preview(db, values, request.app.state.pictures)
         context = _form_context(db, channel_id, values, revision_form.problems_by_field(exc.problems))
-        return render(request, "revision_new.html", status_code=422, latest=None, report=report, **context)
+        return render(
+            request,
+            "revision_new.html",
+            status_code=422,
+            latest=None,
+            report=report,
+            pictures=drawn,
+            **context,
+        )
     return redirect_done(request, f"/revisions/{revision.id}", _saved(revision))
 
 

@@ -7,6 +7,7 @@ from typing import Any
 
 from app.engine.clamps import part_slots
 from app.engine.design import PART_DETAILS
+from app.engine.switches import part_kinds
 from app.signoff.canonical import canonical_json as canonical_json  # re-exported
 from app.signoff.canonical import sha256_hex
 
@@ -114,11 +115,20 @@ def typed_value(text: str) -> Any:
 
 # Where each part kind goes in a design file; zeners and TVSs have no name field there.
 SLOT_KINDS = {
-    "switch": "transistor",
+    "switch": "switch",  # any switch part kind (parts.kinds_for)
     "coil": "coil",
     **part_slots(),
 }
-NAMED_KINDS = {"transistor", "coil", "diode"}
+NAMED_KINDS = {*part_kinds(), "coil", "diode"}
+
+
+def part_kind_in(slot: str, slot_kind: str, body: Any) -> str:
+    """The library part kind of the part copied into a slot: for the switch, from its "kind"
+    in the design file (none: an NPN transistor)."""
+    if slot_kind != "switch":
+        return slot_kind
+    kind = body.get("kind", "npn") if isinstance(body, dict) else "npn"
+    return next((part for part, k in part_kinds().items() if k.kind == kind), "transistor")
 
 
 def part_document(part: Part) -> dict:
@@ -129,8 +139,8 @@ def part_document(part: Part) -> dict:
             body[key] = getattr(part, key)
     if part.kind in NAMED_KINDS:
         body = {"name": part.name, **body}
-    if part.kind == "transistor":
-        body = {"kind": "npn", **body}
+    if part.kind in part_kinds():  # a switch: its kind in the design file ("npn", "nmos"…)
+        body = {"kind": part_kinds()[part.kind].kind, **body}
     return body
 
 

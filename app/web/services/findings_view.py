@@ -20,7 +20,20 @@ CORNER_WORDS: dict[str, tuple[str, str]] = {
     "drive_off": ("drive low", "V"),
     "vz": ("zener voltage", "V"),
     "r_clamp": ("clamp resistor", "Ω"),
+    "r_input": ("array input resistor", "Ω"),
 }
+# A MOSFET's series resistor and pull-down sit at its gate (the report has gate rules).
+_GATE_WORDS = {"r_series": ("gate resistor", "Ω"), "r_pulldown": ("gate pull-down", "Ω")}
+
+
+def resistor_words(findings: list | None) -> dict[str, tuple[str, str]]:
+    """CORNER_WORDS for a report: the gate's words when its findings are a MOSFET's."""
+    rules = (f.get("rule", "") if isinstance(f, dict) else getattr(f, "rule", "") for f in findings or ())
+    if any(str(rule).startswith("gate.") for rule in rules):
+        return {**CORNER_WORDS, **_GATE_WORDS}
+    return CORNER_WORDS
+
+
 # Shown as one phrase: the coil as the rule used it.
 _COIL_KEYS = {"r_coil", "r_coil_used", "coil_temp"}
 
@@ -54,14 +67,18 @@ def coil_reference_temp(document: dict) -> float:
         return 20.0
 
 
-def corner_words(corner: dict, r_at: float = 20.0) -> list[tuple[str, str, str]]:
+def corner_words(
+    corner: dict, r_at: float = 20.0, findings: list | None = None
+) -> list[tuple[str, str, str]]:
     """(words, value with unit, key) for each parameter of a worst corner, e.g.
-    ("coil resistance", "132.7 Ω at 0 °C (144 Ω at 20 °C)", "r_coil")."""
+    ("coil resistance", "132.7 Ω at 0 °C (144 Ω at 20 °C)", "r_coil"); ``findings``, the
+    report's, tell a MOSFET's gate resistor from a base resistor."""
     out = []
+    table = resistor_words(findings)
     for key, value in corner.items():
         if key in _COIL_KEYS:
             continue
-        words, unit = CORNER_WORDS.get(key, (key.replace("_", " "), ""))
+        words, unit = table.get(key, (key.replace("_", " "), ""))
         out.append((words, _number(value, unit), key))
     if "r_coil" in corner:
         nominal = f"{_number(corner['r_coil'], 'Ω')} at {r_at:.4g} °C"

@@ -11,15 +11,23 @@ from pydantic.fields import FieldInfo
 from sqlalchemy import exists, func
 from sqlmodel import Session, select
 
-from app.engine.design import PART_DETAILS, Coil, DesignError, Diode, Transistor, Tvs, Zener, parse_part
+from app.engine.design import PART_DETAILS, Coil, DesignError, Diode, Tvs, Zener, parse_part
+from app.engine.switches import part_kinds
 
 from ..models import PART_KINDS, Channel, Part, Revision, RevisionPart, utcnow
 from .documents import _NUMBER, set_path, typed_value
 from .errors import InputProblems, check_text, commit_or_conflict, get_or_not_found, split_problem
 
-PART_MODELS = {"transistor": Transistor, "diode": Diode, "zener": Zener, "tvs": Tvs, "coil": Coil}
+# Switch parts from the engine's switch registry: transistor (NPN), nmos, darlington_array.
+PART_MODELS = {
+    **{part: kind.model for part, kind in part_kinds().items()},
+    "diode": Diode,
+    "zener": Zener,
+    "tvs": Tvs,
+    "coil": Coil,
+}
 KIND_TITLES = {
-    "transistor": "NPN transistor",
+    **{part: kind.title for part, kind in part_kinds().items()},
     "diode": "Diode",
     "zener": "Zener",
     "tvs": "TVS",
@@ -62,6 +70,11 @@ def flat_params(params: dict) -> dict:
         else:
             out[key] = value
     return out
+
+
+def kinds_for(slot_kind: str) -> tuple[str, ...]:
+    """The part kinds a slot takes: "switch" takes every switch part kind, else the one kind."""
+    return tuple(part_kinds()) if slot_kind == "switch" else (slot_kind,)
 
 
 def _check_kind(kind: str) -> None:
@@ -238,8 +251,10 @@ def search_parts(
 ) -> list[Part]:
     query = select(Part)
     if kind:
-        _check_kind(kind)
-        query = query.where(Part.kind == kind)
+        kinds = kinds_for(kind)
+        for one in kinds:
+            _check_kind(one)
+        query = query.where(Part.kind.in_(kinds))
     if q.strip():
         text = q.strip().lower().replace("\x00", "")
         query = query.where(func.lower(Part.name).contains(text, autoescape=True))

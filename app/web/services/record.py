@@ -9,7 +9,7 @@ from sqlmodel import Session
 from app.signoff.compare import KIND_LABELS
 
 from ..models import Channel, Fixture, Revision, User
-from . import findings_view, labels, review, revisions, trail
+from . import findings_view, labels, pictures, review, revisions, trail
 from .documents import SLOT_KINDS
 from .errors import InputProblems, NotFound
 
@@ -39,7 +39,13 @@ def inputs(document: dict) -> list[tuple[str, str]]:
     return out
 
 
-def _base(db: Session, revision_id: int, user: User | None, sort: str = "") -> dict:
+def _base(
+    db: Session,
+    revision_id: int,
+    user: User | None,
+    sort: str = "",
+    store: pictures.PictureStore | None = None,
+) -> dict:
     view = revisions.revision_view(db, revision_id)
     report = view.report.body
     state = review.review_state(db, view.revision, report, user)
@@ -61,11 +67,15 @@ def _base(db: Session, revision_id: int, user: User | None, sort: str = "") -> d
         "labelled_inputs": labels.labelled_inputs(inputs(view.revision.document)),
         "labelled_parts": labels.labelled_parts(revisions.frozen_parts(view.revision.document)),
         "caution": CAUTION,
+        # Drawn once per content, engine and profile version; none where no store is given.
+        "pictures": pictures.for_revision(db, view.revision, store) if store is not None else {},
     }
 
 
-def page_context(db: Session, revision_id: int, user: User, sort: str = "") -> dict:
-    context = _base(db, revision_id, user, findings_view.sort_key(sort))
+def page_context(
+    db: Session, revision_id: int, user: User, sort: str = "", store: pictures.PictureStore | None = None
+) -> dict:
+    context = _base(db, revision_id, user, findings_view.sort_key(sort), store)
     revision = context["view"].revision
     context["compare_with"] = review.default_comparison(db, revision)
     context["labels"] = review.ACTION_LABELS
@@ -96,11 +106,16 @@ def _bounded(context: dict) -> None:
 
 
 def record_context(
-    db: Session, revision_id: int, checks: dict | None = None, max_age: float = 300.0, bounded: bool = False
+    db: Session,
+    revision_id: int,
+    checks: dict | None = None,
+    max_age: float = 300.0,
+    bounded: bool = False,
+    store: pictures.PictureStore | None = None,
 ) -> dict:
     """The printed record. ``checks`` keeps the trail verification between views (see
-    trail.cached_verification); ``bounded`` caps what a PDF renders."""
-    context = _base(db, revision_id, None)
+    trail.cached_verification); ``bounded`` caps what a PDF renders; ``store`` keeps the pictures."""
+    context = _base(db, revision_id, None, store=store)
     if checks is None:
         context["check"] = trail.verify_all(db)
     else:

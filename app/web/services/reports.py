@@ -75,6 +75,30 @@ def report_for(db: Session, revision) -> Report:
     return cached_report(db, revision.content_hash, revision.document, revision.profile_version_id)
 
 
+def tighten_for(db: Session, revision) -> list[dict]:
+    """What to tighten for a revision (app/engine/tighten.py), judged by the profile version it
+    records; kept per content hash, profile version and engine version like the report."""
+    from app.engine.tighten import what_to_tighten
+
+    from .profiles import engine_profile
+
+    key = (revision.content_hash, profile_key(revision.profile_version_id), ENGINE_VERSION)
+    found = _TIGHTEN.get(key)
+    if found is None:
+        report = report_for(db, revision).body
+        found = what_to_tighten(
+            parse_design(revision.document), engine_profile(db, revision.profile_version_id), report
+        )
+        if len(_TIGHTEN) >= 256:
+            _TIGHTEN.pop(next(iter(_TIGHTEN)))
+        _TIGHTEN[key] = found
+    return found
+
+
+# Per process; a revision's content never changes, so an entry never goes stale.
+_TIGHTEN: dict[tuple, list[dict]] = {}
+
+
 def windows_for(db: Session, revision) -> list[dict]:
     """The design window of a revision (app/engine/window.py), judged by the same profile version
     as its report. It evaluates the design a few hundred times: asked for, never part of the
@@ -86,5 +110,27 @@ def windows_for(db: Session, revision) -> list[dict]:
     profile = engine_profile(db, revision.profile_version_id)
     try:
         return finite_json(design_windows(parse_design(revision.document), profile))
+    except DesignError as exc:
+        raise InputProblems([split_problem(line) for line in exc.problems]) from None
+
+
+# The most samples the web app draws for one request: about a second of one worker's time.
+WEB_MAX_SAMPLES = 100_000
+
+
+def yield_for(db: Session, revision, samples: int, seed: int) -> dict:
+    """The Monte Carlo yield of a revision (app/engine/montecarlo.py), judged by the profile
+    version it records; asked for, never part of the stored report."""
+    from app.engine.montecarlo import monte_carlo
+
+    from .profiles import engine_profile
+
+    if not 1 <= samples <= WEB_MAX_SAMPLES:
+        raise InputProblems([("samples", f"from 1 to {WEB_MAX_SAMPLES}")])
+    if not 0 <= seed < 2**63:
+        raise InputProblems([("seed", "from 0 to 2**63 − 1")])
+    profile = engine_profile(db, revision.profile_version_id)
+    try:
+        return finite_json(monte_carlo(parse_design(revision.document), profile, samples, seed))
     except DesignError as exc:
         raise InputProblems([split_problem(line) for line in exc.problems]) from None

@@ -7,10 +7,12 @@ from dataclasses import dataclass, field
 from sqlmodel import Session, select
 
 from app.engine.clamps import KINDS as CLAMP_REGISTRY
+from app.engine.switches import KINDS as SWITCH_REGISTRY
 
 from ..models import Part
-from .documents import SLOT_KINDS, get_path, part_document, set_path, typed_value
+from .documents import SLOT_KINDS, get_path, part_document, part_kind_in, set_path, typed_value
 from .errors import InputProblems, split_problem
+from .parts import kinds_for
 from .revisions import validate_document
 
 
@@ -24,6 +26,7 @@ class FormField:
     labels: tuple[str, ...] = ()  # what each option reads as (default: the option itself)
     when: str = ""  # "drive.kind=logic" or "clamp.kind=diode,diode_zener"
     hint: str = ""
+    default: str = ""  # the value a blank field stands for (a switch without a kind is an NPN)
 
 
 @dataclass(frozen=True)
@@ -62,6 +65,35 @@ def _clamp_fields() -> tuple[FormField, ...]:
                 widget="part" if slot.part else "text",
                 when="clamp.kind=" + ",".join(users[name]),
                 hint=slot.hint,
+            )
+        )
+    return tuple(out)
+
+
+def _resistor_fields() -> tuple[Section, ...]:
+    """The base and the gate resistor blocks, each shown for the switch kinds driven through it
+    (from the switch registry)."""
+    words = {
+        "base": ("Base", "Base resistor R_b", "Pull-down R_be", "R_b power rating"),
+        "gate": ("Gate", "Gate resistor R_g", "Pull-down R_gs", "R_g power rating"),
+    }
+    out = []
+    for block, (title, series, pulldown, power) in words.items():
+        kinds = [k for k in SWITCH_REGISTRY.values() if k.resistors == block]
+        if not kinds:
+            continue
+        when = "switch.kind=" + ",".join(k.kind for k in kinds)
+        optional = [k.title for k in kinds if not k.resistors_required]
+        hint = f"optional for a {', '.join(optional)}: blank for none" if optional else ""
+        out.append(
+            Section(
+                title,
+                (
+                    F(f"{block}.r_series", series, "Ω", when=when, hint=hint),
+                    F(f"{block}.r_pulldown", pulldown, "Ω", hint="blank: none", when=when),
+                    F(f"{block}.tolerance", "Resistor tolerance", "%", when=when),
+                    F(f"{block}.power_rating", power, "W", when=when),
+                ),
             )
         )
     return tuple(out)
@@ -122,17 +154,21 @@ SECTIONS = (
         ),
     ),
     Section(
-        "Base",
+        "Switch and coil",
         (
-            F("base.r_series", "Base resistor R_b", "Ω"),
-            F("base.r_pulldown", "Pull-down R_be", "Ω", hint="blank: none"),
-            F("base.tolerance", "Resistor tolerance", "%"),
-            F("base.power_rating", "R_b power rating", "W"),
+            F(
+                "switch.kind",
+                "Switch kind",
+                widget="select",
+                options=tuple(SWITCH_REGISTRY),
+                labels=tuple(k.title for k in SWITCH_REGISTRY.values()),
+                default="npn",
+            ),
+            F("switch", "Switch", widget="part", hint="a part of the chosen kind"),
+            F("coil", "Coil", widget="part"),
         ),
     ),
-    Section(
-        "Switch and coil", (F("switch", "NPN transistor", widget="part"), F("coil", "Coil", widget="part"))
-    ),
+    *_resistor_fields(),
     Section("Clamp", _clamp_fields()),
     Section(
         "Load on the contacts (optional; the coil part carries the contact ratings)",
@@ -205,7 +241,8 @@ def applies(f: FormField, values: dict[str, str]) -> bool:
 
 def values_from_form(form) -> dict[str, str]:
     """The form's text values by field path (part slots hold a library part id)."""
-    return {path: str(form.get(path, "") or "").strip() for path in FIELDS}
+    values = {path: str(form.get(path, "") or "").strip() for path in FIELDS}
+    return {path: value or FIELDS[path].default for path, value in values.items()}
 
 
 def build_document(db: Session, values: dict[str, str]) -> tuple[dict, dict[str, int]]:
@@ -224,8 +261,18 @@ def build_document(db: Session, values: dict[str, str]) -> tuple[dict, dict[str,
                 problems.append((f.path, "pick a part from the library"))
                 continue
             part = db.get(Part, int(text)) if text.isdigit() and int(text) <= 2**31 - 1 else None
-            if part is None or part.kind != SLOT_KINDS[f.path]:
+            if part is None or part.kind not in kinds_for(SLOT_KINDS[f.path]):
                 problems.append((f.path, f"no {SLOT_KINDS[f.path]} with id {text!r} in the library"))
+                continue
+            chosen = part_document(part).get("kind") if f.path == "switch" else None
+            if chosen is not None and values.get("switch.kind") and chosen != values["switch.kind"]:
+                kind = SWITCH_REGISTRY[values["switch.kind"]]
+                problems.append(
+                    (
+                        f.path,
+                        f"{part.name!r} is not of the chosen switch kind ({kind.title}): pick one, or change the kind",
+                    )
+                )
                 continue
             if part.archived:
                 problems.append((f.path, f"{part.name!r} is archived; pick a current part"))
@@ -276,13 +323,13 @@ def values_from_document(db: Session, document: dict, links: dict[str, int]) -> 
             if part_id is None:
                 name = get_path(document, f.path + ".name")
                 if isinstance(name, str):
-                    part_id = db.exec(
-                        select(Part.id).where(Part.kind == SLOT_KINDS[f.path], Part.name == name)
-                    ).first()
+                    kind = part_kind_in(f.path, SLOT_KINDS[f.path], get_path(document, f.path))
+                    part_id = db.exec(select(Part.id).where(Part.kind == kind, Part.name == name)).first()
             values[f.path] = str(part_id) if part_id is not None else ""
         else:
             value = get_path(document, f.path)
             values[f.path] = "" if value is None or isinstance(value, dict) else str(value)
+            values[f.path] = values[f.path] or f.default
     return values
 
 

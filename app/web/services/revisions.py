@@ -11,7 +11,7 @@ from app.engine import DesignError, parse_design
 
 from ..models import Channel, Fixture, Part, Report, Revision, RevisionPart, User
 from . import profiles, review, trail
-from .documents import SLOT_KINDS, check_shape, content_hash, get_path, part_document
+from .documents import SLOT_KINDS, check_shape, content_hash, get_path, part_document, part_kind_in
 from .errors import InputProblems, NotFound, check_text, get_or_not_found, split_problem
 from .reports import cached_report, report_for
 
@@ -39,7 +39,11 @@ def _link_by_name(db: Session, document: dict) -> dict[str, int]:
     for slot, kind in SLOT_KINDS.items():
         name = get_path(document, f"{slot}.name")
         if isinstance(name, str):
-            part_id = db.exec(select(Part.id).where(Part.kind == kind, Part.name == name)).first()
+            part_id = db.exec(
+                select(Part.id).where(
+                    Part.kind == part_kind_in(slot, kind, get_path(document, slot)), Part.name == name
+                )
+            ).first()
             if part_id is not None:
                 links[slot] = part_id
     return links
@@ -148,7 +152,7 @@ def frozen_parts(document: dict) -> list[tuple[str, str, dict]]:
     for slot, kind in SLOT_KINDS.items():
         body = get_path(document, slot)
         if isinstance(body, dict):
-            out.append((slot, kind, body))
+            out.append((slot, part_kind_in(slot, kind, body), body))
     return out
 
 

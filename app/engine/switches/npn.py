@@ -1,0 +1,53 @@
+"""An NPN bipolar transistor, low side: the base driven through R_b with an optional pull-down."""
+
+from __future__ import annotations
+
+from ..circuit import Bipolar, bipolar_operating_point
+from ..design import Transistor
+from ..physics import VBE_TEMPCO
+from .base import FormSlot, SwitchKind
+
+
+class NpnTransistor(SwitchKind):
+    kind = "npn"
+    title = "NPN transistor"
+    part_kind = "transistor"
+    model = Transistor
+    resistors = "base"
+    fields = (FormSlot("switch", "NPN transistor", part="transistor"),)
+
+    def breakdown(self, switch):
+        return switch.vceo
+
+    def current_rating(self, switch):
+        return switch.ic_max
+
+    def on_voltage_low(self, switch):
+        return switch.vce_sat_low
+
+    def problems(self, design):
+        if design.switch.vce_sat >= design.supply.low:
+            return [
+                f"switch.vce_sat ({design.switch.vce_sat:g} V) must be below the lowest supply "
+                f"({design.supply.low:g} V)"
+            ]
+        return []
+
+    def operating_point(self, design, c, *, steady_state, assumed_coil_rise):
+        sw = design.switch
+        bipolar = Bipolar(
+            hfe_min=sw.hfe_min,
+            hfe_max=sw.hfe_max,
+            vbe_sat=sw.vbe_sat,
+            vbe_sat_min=sw.vbe_sat_min,
+            vce_sat=sw.vce_sat,
+            vce_sat_low=sw.vce_sat_low,
+            vbe_on=sw.vbe_on,
+            vbe_tempco=VBE_TEMPCO,  # about −2 mV/K (common practice)
+            p_max=sw.p_max,
+            rth_ja=sw.rth_ja,
+            tj_max=sw.tj_max,
+        )
+        return bipolar_operating_point(
+            design, c, bipolar, steady_state=steady_state, assumed_coil_rise=assumed_coil_rise
+        )
