@@ -161,7 +161,11 @@ def _alternatives(ctx: Context) -> list[dict]:
             else:
                 other = design.model_copy(update={"clamp": clamp})
                 alt = context_at(
-                    other, ctx.profile, corners_at_rows(other, ctx.corners, rows), energies=energies
+                    other,
+                    ctx.profile,
+                    corners_at_rows(other, ctx.corners, rows),
+                    energies=energies,
+                    distinct=True,
                 )
             ok = _passes_ctx(alt, rules)
             if not ok:
@@ -195,7 +199,14 @@ def distinct_rows(columns: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
 
 
 def turn_offs(
-    design: Design, corners: Corners, op, nominal_c: Corners, nom, *, energies: bool = True
+    design: Design,
+    corners: Corners,
+    op,
+    nominal_c: Corners,
+    nom,
+    *,
+    energies: bool = True,
+    distinct: bool = False,
 ) -> tuple[TurnOff, TurnOff]:
     """The turn-off at every worst-case corner and at the nominal corner, in one computation.
 
@@ -206,10 +217,14 @@ def turn_offs(
     one more row, and copied to the corners that share it: every figure is the one a
     corner-by-corner computation gives, bit for bit (each row is computed on its own).
     ``energies=False`` leaves the worst corners' charge and energies NaN (the nominal corner's
-    are always computed)."""
+    are always computed). ``distinct``: the corners are known to differ in their turn-off inputs
+    (``corners_at_rows``), so none is looked for."""
     kind = kind_of(design.clamp)
     names = [f[0] for f in kind.factors(design.clamp)]
-    first, inverse = distinct_rows([op.vcc, op.r_coil, op.coil_current, *(corners[n] for n in names)])
+    if distinct:
+        first = inverse = np.arange(corners.size)
+    else:
+        first, inverse = distinct_rows([op.vcc, op.r_coil, op.coil_current, *(corners[n] for n in names)])
     rows = first.size
 
     def both(worst: np.ndarray, nominal: np.ndarray) -> np.ndarray:
@@ -251,16 +266,18 @@ def _take(turnoff: TurnOff, rows: np.ndarray) -> TurnOff:
     )
 
 
-def context_at(design: Design, profile: Profile, corners: Corners, *, energies: bool = True) -> Context:
+def context_at(
+    design: Design, profile: Profile, corners: Corners, *, energies: bool = True, distinct: bool = False
+) -> Context:
     """The evaluation context over a given set of corners (``profile`` already holds the design's
-    limits); no alternatives."""
+    limits); no alternatives. ``distinct``: see turn_offs."""
     nominal_c = nominal_corner(design)
     op = operating_point(design, corners, steady_state=False, assumed_coil_rise=profile.coil_rise)
     nom = operating_point(design, nominal_c, steady_state=True, assumed_coil_rise=profile.coil_rise)
     kind = kind_of(design.clamp)
     path = kind.path(design.clamp, design, op.vcc, corners.values)
     nominal_path = kind.path(design.clamp, design, nom.vcc, nominal_c.values)
-    to, to_nom = turn_offs(design, corners, op, nominal_c, nom, energies=energies)
+    to, to_nom = turn_offs(design, corners, op, nominal_c, nom, energies=energies, distinct=distinct)
     return Context(design, profile, corners, op, nom, path, nominal_path, to, to_nom)
 
 

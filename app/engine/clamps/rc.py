@@ -141,7 +141,11 @@ def rc_turn_off(
     for _ in range(_BISECTIONS):
         mid = (lo + hi) / 2
         above = np.abs(resp.at(c1, c2, mid)) >= ido
-        lo, hi = np.where(above, mid, lo), np.where(above, hi, mid)
+        new_lo, new_hi = np.where(above, mid, lo), np.where(above, hi, mid)
+        # Once no interval moves, none ever will (mid is lo or hi): stopping gives the same bits.
+        if np.array_equal(new_lo, lo, equal_nan=True) and np.array_equal(new_hi, hi, equal_nan=True):
+            break
+        lo, hi = new_lo, new_hi
     t_release = np.where(picked, (lo + hi) / 2, 0.0)
 
     # Capacitor voltage: held while on, then the first swing (at the first zero of i).

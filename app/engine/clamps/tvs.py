@@ -57,11 +57,14 @@ class TvsPath(ClampPath):
     supply_in_loop = True
 
     def device_voltage(self, i):
-        return (
-            self.v_br[:, None]
-            + THERMAL_VOLTAGE * np.log(i / self.i_test)
-            + (i - self.i_test) * self.r_s[:, None]
-        )
+        # A coil that carries nothing when on (i = 0) gives log(0) = −inf here: no turn-off to
+        # speak of, handled by the turn-off; the warning would only be noise on standard error.
+        with np.errstate(divide="ignore"):
+            return (
+                self.v_br[:, None]
+                + THERMAL_VOLTAGE * np.log(i / self.i_test)
+                + (i - self.i_test) * self.r_s[:, None]
+            )
 
     def loop_voltage(self, i):
         return self.device_voltage(i) - self.vcc[:, None]
