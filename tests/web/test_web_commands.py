@@ -1,7 +1,9 @@
 """`clampdown user add`, `clampdown demo`, and the settings they read."""
 
+import json
 import subprocess
 import sys
+from pathlib import Path
 
 from sqlmodel import Session, select
 
@@ -39,7 +41,15 @@ def test_demo_builds_a_fresh_database_and_prints_the_sign_ins(tmp_path):
     assert "http://" not in result.stdout  # nothing is served, so no address to open
     engine = make_engine(f"sqlite:///{tmp_path / 'demo' / 'demo.sqlite3'}")
     with Session(engine) as db:
-        assert len(db.exec(select(Revision)).all()) == 9
+        # every revision of seed_data/demo/scenario.json (12: eight channels)
+        scenario = json.loads(
+            (Path(__file__).parents[2] / "seed_data" / "demo" / "scenario.json").read_text()
+        )
+        assert (
+            len(db.exec(select(Revision)).all())
+            == sum(len(c["revisions"]) for c in scenario["channels"])
+            == 12
+        )
 
 
 def test_secret_key_is_generated_once_and_kept(tmp_path):

@@ -36,7 +36,8 @@ def _attack(world, *statements: str) -> None:
 def test_the_demo_trail_verifies_and_exits_0(world, monkeypatch, capsys):
     code, out = _verify(world, monkeypatch, capsys)
     assert code == 0, out
-    assert "trail intact" in out and "27 entries chained" in out  # reviews.json: 27 actions in all
+    # the demo seed: 12 saved revisions, 14 review actions (reviews.json) and 4 supersessions
+    assert "trail intact" in out and "30 entries chained" in out
 
 
 def test_an_edited_field_of_one_row_is_named(world, monkeypatch, capsys):
@@ -57,7 +58,7 @@ def test_a_row_cut_off_the_end_is_caught_by_the_head(world, monkeypatch, capsys)
     _attack(world, "DELETE FROM trail_entry WHERE seq = (SELECT max(seq) FROM trail_entry)")
     code, out = _verify(world, monkeypatch, capsys)
     assert code == 1
-    assert "entry 27: the trail ends at entry 26" in out
+    assert "entry 30: the trail ends at entry 29" in out  # the demo seed's 30 entries
 
 
 def test_two_swapped_rows_are_named(world, monkeypatch, capsys):
@@ -123,7 +124,7 @@ def test_the_database_refuses_to_change_trail_rows(world, statement):
         with world.state.engine.begin() as connection:
             connection.execute(text(statement))
     with world.state.engine.connect() as connection:
-        assert connection.execute(text("SELECT count(*) FROM trail_entry")).scalar() == 27
+        assert connection.execute(text("SELECT count(*) FROM trail_entry")).scalar() == 30
 
 
 def test_postgresql_also_refuses_truncate(world):

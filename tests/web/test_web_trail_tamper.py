@@ -267,7 +267,7 @@ def test_with_the_key_a_recomputed_chain_passes_but_not_the_anchor(
     the trail so that every MAC matches. An anchor written earlier and kept elsewhere catches it."""
     anchor = tmp_path / "anchor.json"
     code, out = _cli(world, monkeypatch, capsys, "trail", "anchor", str(anchor))
-    assert code == 0 and "anchored entry 27" in out, out
+    assert code == 0 and "anchored entry 30" in out, out  # the demo seed's 30 entries
     _recompute_from(world, 5, "nothing to see")
     key = TRAIL_KEY.encode()
     with Session(world.state.engine) as db:
@@ -286,7 +286,7 @@ def test_with_the_key_a_recomputed_chain_passes_but_not_the_anchor(
     assert code == 0, out  # the documented limit: database and key together
     code, out = _cli(world, monkeypatch, capsys, "trail", "verify", "--anchor", str(anchor))
     assert code == 1
-    assert "entry 27: the anchor records hash" in out and "the trail was rewritten up to the anchor" in out
+    assert "entry 30: the anchor records hash" in out and "the trail was rewritten up to the anchor" in out
 
 
 def test_the_anchor_catches_a_database_rolled_back_to_an_older_copy(
