@@ -1,6 +1,8 @@
 """The parts library: validated like the design file, unique names per kind, archive not delete,
 CSV out and in."""
 
+import pytest
+
 from .conftest import part_id
 
 DIODE = {"vrrm": "200", "if_avg": "1 A", "i_peak": "30", "vf": "1.1 V", "vf_at": "1"}
@@ -225,3 +227,16 @@ def test_new_optional_fields_go_through_the_form_and_the_csv(designer):
         "/parts", data={"kind": "coil", "name": "Bad relay", **coil, "contacts.current": "-1"}
     )
     assert response.status_code == 422 and "must be positive" in response.text
+
+
+@pytest.mark.parametrize("kind,count", [("nmos", 2), ("darlington_array", 1)])
+def test_csv_of_the_new_switch_kinds_imports_back_unchanged(designer, kind, count):
+    """The demo library's MOSFETs and Darlington array channel (seed_data/demo/parts.json) go
+    out as CSV and come back unchanged, as every other part kind does."""
+    exported = designer.get(f"/parts/export.csv?kind={kind}").text
+    before = designer.get(f"/api/v1/parts?kind={kind}").json()
+    assert len(before) == count
+    response = designer.post("/parts/import", data={"kind": kind}, files={"file": ("s.csv", exported)})
+    assert response.status_code == 200 and f"0 new, {count} updated" in response.text
+    after = designer.get(f"/api/v1/parts?kind={kind}").json()
+    assert [(p["name"], p["params"]) for p in after] == [(p["name"], p["params"]) for p in before]
