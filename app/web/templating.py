@@ -140,3 +140,11 @@ class FragmentCache:
         if len(self._items) >= self.size:
             self._items.clear()
         self._items[key] = value
+
+    def kept(self, key, build):
+        """The value under ``key``, built by ``build()`` and kept on a miss."""
+        found = self._items.get(key)
+        if found is None:
+            found = build()
+            self.put(key, found)
+        return found

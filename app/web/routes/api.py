@@ -277,11 +277,7 @@ def _cached_json(request: Request, db, key: tuple, model: Any, build) -> bytes:
     (database triggers bump it on every change) or the engine version changes: a repeated
     request neither rebuilds nor re-validates the objects."""
     key = ("api", *key, *fixtures.overview_version(db))
-    found = request.app.state.fragments.get(key)
-    if found is None:
-        found = TypeAdapter(model).dump_json(build())
-        request.app.state.fragments.put(key, found)
-    return found
+    return request.app.state.fragments.kept(key, lambda: TypeAdapter(model).dump_json(build()))
 
 
 def _link_next(request: Request, response: Response, limit: int, offset: int, total: int) -> None:
@@ -430,10 +426,12 @@ def get_report(db: DB, user: Viewer, revision_id: int) -> dict[str, Any]:
 
 
 @router.get("/revisions/{revision_id}/tighten")
-def get_tighten(db: DB, user: Viewer, revision_id: int) -> list[dict[str, Any]]:
+def get_tighten(request: Request, db: DB, user: Viewer, revision_id: int) -> list[dict[str, Any]]:
     """What to tighten: per rule with a margin, each tolerance that moves it and by how much when
     halved (margins as fractions of the derated limit), tightest rule first."""
-    return tighten_for(db, revisions.get_revision(db, revision_id))
+    r = revisions.get_revision(db, revision_id)
+    key = ("tighten", r.content_hash, r.profile_version_id, ENGINE_VERSION)
+    return request.app.state.fragments.kept(key, lambda: tighten_for(db, r))
 
 
 @router.get("/revisions/{revision_id}/yield")

@@ -19,24 +19,20 @@ router = APIRouter(include_in_schema=False, route_class=DbRoute)
 def _overview_html(request: Request, db, page: Page) -> Markup:
     """One page of the fixtures list, rendered once per page and overview version (see
     fixtures.overview_version)."""
-    key = ("home", page.number, page.size, *fixtures.overview_version(db))
-    html = request.app.state.fragments.get(key)
-    if html is None:
+
+    def build():
         template = request.app.state.templates.get_template("partials/_overview.html")
-        html = Markup(template.render(overview=fixtures.overview(db, limit=page.size, offset=page.offset)))
-        request.app.state.fragments.put(key, html)
-    return html
+        return Markup(template.render(overview=fixtures.overview(db, limit=page.size, offset=page.offset)))
+
+    key = ("home", page.number, page.size, *fixtures.overview_version(db))
+    return request.app.state.fragments.kept(key, build)
 
 
 def _fragment(request: Request, key: tuple, build):
     """A rendered piece of a page that is the same for everyone who looks, kept until the data
     version moves (every change to fixtures, channels, revisions, reports, the trail and accounts
     bumps it, by database triggers) or the engine version changes."""
-    found = request.app.state.fragments.get(key)
-    if found is None:
-        found = build()
-        request.app.state.fragments.put(key, found)
-    return found
+    return request.app.state.fragments.kept(key, build)
 
 
 def _channels_html(request: Request, db, fixture_id: int) -> Markup:
@@ -52,11 +48,7 @@ def _queues(request: Request, db, user) -> queues.Queues:
     """The person's queues, kept until anything is added to the trail (every hand-in, send-back,
     sign-off and save appends an entry, so the overview version moves with them)."""
     key = ("queues", user.id, user.role, *fixtures.overview_version(db))
-    found = request.app.state.fragments.get(key)
-    if found is None:
-        found = queues.queues_for(db, user)
-        request.app.state.fragments.put(key, found)
-    return found
+    return request.app.state.fragments.kept(key, lambda: queues.queues_for(db, user))
 
 
 def _home_page(request: Request, db, number: int) -> Page:

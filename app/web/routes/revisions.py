@@ -49,7 +49,9 @@ def revision_page(request: Request, db: DB, user: Viewer, revision_id: int, sort
 def tighten_page(request: Request, db: DB, user: Viewer, revision_id: int):
     """Which tolerance moves each rule's margin, and by how much when halved."""
     view = revisions.revision_view(db, revision_id)
-    entries = tighten_for(db, view.revision)
+    r = view.revision
+    key = ("tighten", r.content_hash, r.profile_version_id, ENGINE_VERSION)
+    entries = request.app.state.fragments.kept(key, lambda: tighten_for(db, r))
     return render(
         request,
         "tighten.html",
@@ -67,10 +69,7 @@ def yield_page(
     view = revisions.revision_view(db, revision_id)
     r = view.revision
     key = ("yield", r.content_hash, r.profile_version_id, ENGINE_VERSION, samples, seed)
-    result = request.app.state.fragments.get(key)
-    if result is None:
-        result = yield_for(db, r, samples, seed)
-        request.app.state.fragments.put(key, result)
+    result = request.app.state.fragments.kept(key, lambda: yield_for(db, r, samples, seed))
     return render(
         request,
         "yield.html",
@@ -87,13 +86,10 @@ def revision_windows(request: Request, db: DB, user: Viewer, revision_id: int):
     It depends on the content, the profile version and the engine alone, so it is kept by them."""
     revision = revisions.get_revision(db, revision_id)
     key = ("windows", revision.content_hash, revision.profile_version_id, ENGINE_VERSION)
-    body = request.app.state.fragments.get(key)
-    if body is None:
-        windows = windows_for(db, revision)
-        body = Markup(
-            request.app.state.templates.get_template("partials/_windows.html").render(windows=windows)
-        )
-        request.app.state.fragments.put(key, body)
+    template = request.app.state.templates.get_template("partials/_windows.html")
+    body = request.app.state.fragments.kept(
+        key, lambda: Markup(template.render(windows=windows_for(db, revision)))
+    )
     if request.headers.get("HX-Request"):
         return render(request, "partials/_fragment.html", body=body)
     channel = fixtures.get_channel(db, revision.channel_id)

@@ -77,26 +77,15 @@ def report_for(db: Session, revision) -> Report:
 
 def tighten_for(db: Session, revision) -> list[dict]:
     """What to tighten for a revision (app/engine/tighten.py), judged by the profile version it
-    records; kept per content hash, profile version and engine version like the report."""
+    records; asked for, never part of the stored report."""
     from app.engine.tighten import what_to_tighten
 
     from .profiles import engine_profile
 
-    key = (revision.content_hash, profile_key(revision.profile_version_id), ENGINE_VERSION)
-    found = _TIGHTEN.get(key)
-    if found is None:
-        report = report_for(db, revision).body
-        found = what_to_tighten(
-            parse_design(revision.document), engine_profile(db, revision.profile_version_id), report
-        )
-        if len(_TIGHTEN) >= 256:
-            _TIGHTEN.pop(next(iter(_TIGHTEN)))
-        _TIGHTEN[key] = found
-    return found
-
-
-# Per process; a revision's content never changes, so an entry never goes stale.
-_TIGHTEN: dict[tuple, list[dict]] = {}
+    report = report_for(db, revision).body
+    return what_to_tighten(
+        parse_design(revision.document), engine_profile(db, revision.profile_version_id), report
+    )
 
 
 def windows_for(db: Session, revision) -> list[dict]:
