@@ -245,7 +245,7 @@ def bipolar_operating_point(
 
     coil_voltage_hot = coil_volts(r_pickup)
     # Pick-up is an ampere-turn threshold: V_pu(T) = V_pu(T_ref)·R(T)/R(T_ref).
-    must_operate_hot = coil.v_pickup * r_pickup / c["r_coil"]
+    must_operate_hot = c.figure("v_pickup", coil.v_pickup) * r_pickup / c["r_coil"]
 
     if steady_state:
         # One operating point at h_FE(min): I_C, V_CE, the coil's voltage and current agree.

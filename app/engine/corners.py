@@ -39,6 +39,11 @@ class Corners:
     def __getitem__(self, name: str) -> np.ndarray:
         return self.values[name]
 
+    def figure(self, name: str, default):
+        """A part's figure at every corner where these corners vary it (the Monte Carlo yield's
+        draws, ``sampled_figures``), else the design's single number ``default``."""
+        return self.values.get(name, default)
+
 
 def _round(x: float) -> float:
     """12 significant digits, so a corner reads 26.4 V, not 26.400000000000002 V."""
@@ -66,6 +71,10 @@ def circuit_factors(design: Design) -> list[Factor]:
         Factor("ambient", design.ambient.min, design.ambient.max, "°C"),
         Factor("r_coil", *_spread(design.coil.r_coil, design.coil.tolerance), "Ω"),
     ]
+    if design.coil.inductance_tolerance > 0:  # absent, the inductance is one number, as given
+        out.append(
+            Factor("inductance", *_spread(design.coil.inductance, design.coil.inductance_tolerance), "H")
+        )
     resistors = design.drive_resistors
     if resistors is not None:
         out.append(Factor("r_series", *_spread(resistors.r_series, resistors.tolerance), "Ω"))
@@ -85,6 +94,39 @@ def circuit_factors(design: Design) -> list[Factor]:
     # The switch's own factors (a Darlington array's input resistor) reach the operating point only.
     out += [Factor(*f) for f in switch_kind(design.switch).factors(design.switch)]
     return out
+
+
+def inductance_at(design: Design, c: Corners, index: int | None = None):
+    """The coil's inductance: one per corner where the corners vary it (inductance_tolerance),
+    else the one number the design gives; at corner ``index`` alone when given."""
+    inductance = c.figure("inductance", design.coil.inductance)
+    if index is None:
+        return inductance
+    return float(inductance[index]) if isinstance(inductance, np.ndarray) else float(inductance)
+
+
+def sampled_figures(design: Design) -> list[Factor]:
+    """The part figures the worst corners take at their own worst end but the Monte Carlo yield
+    draws, one value per sample, between the two bounds the design gives: the transistor's
+    h_FE (hfe_min … hfe_max), V_CE(sat) (vce_sat_min … vce_sat) and V_BE(sat) (vbe_sat_min …
+    vbe_sat), a Darlington channel's V_CE(sat), a MOSFET's V_GS(th) (vgs_th_min … vgs_th_max)
+    and the coil's pick-up voltage (v_pickup_min … v_pickup). A figure with one bound given is
+    not drawn (held at its worst end, as at the corners)."""
+    sw, coil = design.switch, design.coil
+    out = []
+    kind = sw.kind
+    if kind == "npn":
+        if sw.hfe_max is not None:
+            out.append(Factor("hfe", sw.hfe_min, sw.hfe_max, ""))
+        if sw.vbe_sat_min is not None:
+            out.append(Factor("vbe_sat", sw.vbe_sat_min, sw.vbe_sat, "V"))
+    if kind in ("npn", "darlington_array") and sw.vce_sat_min is not None:
+        out.append(Factor("vce_sat", sw.vce_sat_min, sw.vce_sat, "V"))
+    if kind == "nmos":
+        out.append(Factor("vgs_th", sw.vgs_th_min, sw.vgs_th_max, "V"))
+    if coil.v_pickup_min is not None:
+        out.append(Factor("v_pickup", coil.v_pickup_min, coil.v_pickup, "V"))
+    return [f for f in out if f.low != f.high]
 
 
 def _extremes(all_factors: list[Factor]) -> tuple[dict[str, np.ndarray], int]:
@@ -128,6 +170,8 @@ def nominal_corner(design: Design) -> Corners:
         "ambient": ambient,
         "r_coil": design.coil.r_coil,
     }
+    if design.coil.inductance_tolerance > 0:
+        values["inductance"] = design.coil.inductance
     resistors = design.drive_resistors
     values["r_series"] = resistors.r_series if resistors is not None else 0.0
     if resistors is not None and resistors.r_pulldown is not None:

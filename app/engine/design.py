@@ -382,7 +382,18 @@ class Coil(PartModel):
     tolerance: Tolerance = Field(description="coil resistance tolerance, percent")
     r_at: Celsius = Field(20.0, description="temperature at which r_coil and v_pickup hold")
     inductance: Henries
+    inductance_tolerance: Tolerance = Field(
+        0.0,
+        description="inductance tolerance, percent (optional): the worst corners take the "
+        "inductance at both ends; without it the inductance is taken as given",
+    )
     v_pickup: PositiveVolts = Field(description="must-operate voltage at r_at")
+    v_pickup_min: PositiveVolts | None = Field(
+        None,
+        description="the lowest pick-up voltage a coil of this type has at r_at (optional; the "
+        "Monte Carlo yield draws each coil's pick-up between it and v_pickup; the worst corners "
+        "always take v_pickup)",
+    )
     v_dropout: PositiveVolts = Field(description="must-release (drop-out) voltage at r_at")
     v_max: PositiveVolts = Field(description="maximum continuous coil voltage")
     rth: KelvinPerWatt | None = Field(None, description="coil thermal resistance to ambient")
@@ -399,6 +410,11 @@ class Coil(PartModel):
             raise _problem(f"v_dropout ({self.v_dropout:g} V) must be below v_pickup ({self.v_pickup:g} V)")
         if self.v_pickup > self.v_max:
             raise _problem(f"v_pickup ({self.v_pickup:g} V) must not exceed v_max ({self.v_max:g} V)")
+        if self.v_pickup_min is not None and not self.v_dropout < self.v_pickup_min <= self.v_pickup:
+            raise _problem(
+                f"v_pickup_min ({self.v_pickup_min:g} V) must lie above v_dropout "
+                f"({self.v_dropout:g} V) and not above v_pickup ({self.v_pickup:g} V)"
+            )
         return self
 
 
@@ -703,9 +719,9 @@ class Design(Model):
         if problems:
             raise _problem("; ".join(problems))
         if self.monte_carlo is not None and self.monte_carlo.distributions:
-            from .corners import factors
+            from .corners import factors, sampled_figures
 
-            known = [f.name for f in factors(self)]
+            known = [f.name for f in factors(self) + sampled_figures(self)]
             unknown = sorted(set(self.monte_carlo.distributions) - set(known))
             if unknown:
                 raise _problem(

@@ -11,10 +11,17 @@ quantity:
 - part tolerances: normal about the middle of the range with σ = tolerance/3, clipped at the
   tolerance (common practice: a ±5 % part is taken as a 3σ bound).
 
-Quantities the design gives as single numbers (the switch's gain, saturation voltage or
-on-resistance and thresholds, the inductance, the diode's and zener's curves, the pick-up voltage) are not drawn, nor is the coil's self-heating (taken at
-the highest supply): each check takes them at its own worst case, as at the corners, so every
-fraction here is an upper bound on what a batch would show.
+- the part figures the corners take at their worst end but a design gives between two bounds
+  (``corners.sampled_figures``: h_FE from hfe_min to hfe_max, V_CE(sat) and V_BE(sat) from
+  their minimum to their maximum, a MOSFET's V_GS(th), the coil's pick-up voltage from
+  v_pickup_min to v_pickup): uniform between the bounds (a datasheet's minimum and maximum say
+  nothing about where a part sits between them); one value per sample, the same part in every
+  check, so the gain that saturates the switch is the gain that sets its current.
+
+A figure the design gives as one number (with no tolerance or second bound) is not drawn: each
+check takes it as at the corners, at its own worst case (``held`` in the result names them, and
+what to give to have it drawn). Where some are held, the fractions past a rating are upper
+bounds; the result says so.
 
 A rule's fraction past its rating and past its derated limit carries a 95 % confidence interval
 by the Wilson score method (Wilson, J. Am. Stat. Assoc. 22 (1927) 209). The overall yield is the
@@ -28,7 +35,7 @@ import math
 
 import numpy as np
 
-from .corners import Corners, factors
+from .corners import Corners, factors, sampled_figures
 from .design import Design
 from .profile import DEFAULT_PROFILE, Profile
 from .rules import RULES
@@ -36,7 +43,20 @@ from .rules import RULES
 # The two-sided 95 % point of the standard normal distribution, Φ⁻¹(0.975).
 Z95 = 1.959963984540054
 # Drawn uniformly unless the design says otherwise: operating ranges and datasheet bounds.
-UNIFORM = frozenset({"supply", "ambient", "drive_on", "drive_off", "v_source"})
+UNIFORM = frozenset(
+    {
+        "supply",
+        "ambient",
+        "drive_on",
+        "drive_off",
+        "v_source",
+        "hfe",
+        "vce_sat",
+        "vbe_sat",
+        "vgs_th",
+        "v_pickup",
+    }
+)
 CHUNK = 20_000  # samples judged at once: bounds the turn-off's (samples × grid) arrays
 MAX_SAMPLES = 1_000_000
 
@@ -64,7 +84,7 @@ def distribution_of(design: Design, name: str) -> str:
 def draw(design: Design, samples: int, seed: int) -> Corners:
     """``samples`` draws of every varying quantity, as a set of corners."""
     rng = np.random.default_rng(seed)
-    all_factors = factors(design)
+    all_factors = factors(design) + sampled_figures(design)
     values = {}
     for factor in all_factors:  # in the corners' order, so a seed always gives the same draws
         low, high = factor.low, factor.high
@@ -151,11 +171,37 @@ def monte_carlo(
             f.name: distribution_of(design, f.name) for f in corners.factors if f.low != f.high
         },
         "rules": rules,
-        "held": "the switch's own figures (gain, saturation voltage or on-resistance, thresholds), "
-        "the inductance, the diode and zener curves, the pick-up voltage and the coil's self-heating "
-        "(at the highest supply) are not drawn: each check takes them at its own worst case, so these "
-        "fractions are upper bounds",
+        "held": held(design),
     }
+
+
+def held(design: Design) -> str:
+    """What the samples do not draw, each taken at its own worst case as at the corners."""
+    sw, coil = design.switch, design.coil
+    out = []
+    if sw.kind == "npn":
+        if sw.hfe_max is None:
+            out.append("h_FE at hfe_min (give switch.hfe_max to draw it)")
+        if sw.vbe_sat_min is None:
+            out.append("V_BE(sat) at its maximum (give switch.vbe_sat_min to draw it)")
+    if sw.kind in ("npn", "darlington_array") and sw.vce_sat_min is None:
+        out.append("V_CE(sat) at each check's worst end (give switch.vce_sat_min to draw it)")
+    if sw.kind == "darlington_array":
+        out.append("the channel's gain and input voltage (one number each in the design)")
+    if sw.kind == "nmos":
+        out.append("R_DS(on) at its maximum (the design gives no typical value)")
+    if design.coil.inductance_tolerance == 0:
+        out.append("the inductance as given (give coil.inductance_tolerance to draw it)")
+    if coil.v_pickup_min is None:
+        out.append("the pick-up voltage at v_pickup (give coil.v_pickup_min to draw it)")
+    if getattr(design.clamp, "diode", None) is not None:
+        out.append("the clamp diode's forward curve")
+    out.append("the coil's self-heating, taken at the highest supply")
+    return (
+        "not drawn, each taken at its own worst case as at the corners: "
+        + "; ".join(out)
+        + ". So the fractions past a rating are upper bounds"
+    )
 
 
 def yield_lines(result: dict) -> list[str]:

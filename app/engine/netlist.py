@@ -15,6 +15,7 @@ import numpy as np
 
 from .clamps import kind_of
 from .clamps.base import g as _g
+from .corners import inductance_at
 from .design import Design
 from .review import build_context
 from .switches import switch_kind
@@ -45,6 +46,8 @@ def netlist(design: Design, corner: str = "nominal") -> str:
     else:
         raise ValueError("corner must be nominal, worst or release")
     vcc = float(op.vcc[index])
+    # The nominal corner's inductance is the design's; a worst corner's may be at a tolerance end.
+    inductance = design.coil.inductance if corner == "nominal" else inductance_at(design, ctx.corners, index)
     i0 = float(to.initial_current[index])
     ido = float(op.dropout_current)
     t_expected = float(to.time_to_dropout[index])
@@ -69,7 +72,7 @@ def netlist(design: Design, corner: str = "nominal") -> str:
         f"VCC vcc 0 DC {_g(vcc)}",
         f"RCOIL vcc a {_g(r_coil)}",
         # IC= documents I_0; without uic ngspice takes it from the operating point instead.
-        f"LCOIL a b {_g(design.coil.inductance)} IC={_g(i0)}",
+        f"LCOIL a b {_g(inductance)} IC={_g(i0)}",
         "VSENSE b sw DC 0",
         *switch.netlist_lines(design, op, index, i_switch, t_open),
         *clamp_lines,

@@ -11,7 +11,7 @@ import numpy as np
 from . import ENGINE_VERSION
 from .circuit import operating_point
 from .clamps import DiodeClamp, DiodeZenerClamp, ResistorClamp, kind_of
-from .corners import Corners, corners_at_rows, nominal_corner, worst_corners
+from .corners import Corners, corners_at_rows, inductance_at, nominal_corner, worst_corners
 from .design import QUANTITY_RANGES, Design, Diode, Zener
 from .physics import THERMAL_VOLTAGE, DiodeModel
 from .profile import DEFAULT_PROFILE, Profile
@@ -224,7 +224,8 @@ def turn_offs(
     if distinct:
         first = inverse = np.arange(corners.size)
     else:
-        first, inverse = distinct_rows([op.vcc, op.r_coil, op.coil_current, *(corners[n] for n in names)])
+        varied = [corners[n] for n in (*names, "inductance") if n in corners.values]
+        first, inverse = distinct_rows([op.vcc, op.r_coil, op.coil_current, *varied])
     rows = first.size
 
     def both(worst: np.ndarray, nominal: np.ndarray) -> np.ndarray:
@@ -232,16 +233,21 @@ def turn_offs(
 
     if not energies:  # the nominal corner needs them: compute it apart
         worst = _turn_off_at(
-            design, kind, op.vcc[first], {n: corners[n][first] for n in names}, op, first, False
+            design, kind, op.vcc[first], {n: corners[n][first] for n in names}, op, first, False, corners
         )
-        nominal = _turn_off_at(design, kind, nom.vcc, {n: nominal_c[n] for n in names}, nom, None, True)
+        nominal = _turn_off_at(
+            design, kind, nom.vcc, {n: nominal_c[n] for n in names}, nom, None, True, nominal_c
+        )
         return _take(worst, inverse), nominal
     path = kind.path(
         design.clamp, design, both(op.vcc, nom.vcc), {n: both(corners[n], nominal_c[n]) for n in names}
     )
+    inductance = inductance_at(design, corners)
+    if isinstance(inductance, np.ndarray):
+        inductance = both(inductance, np.asarray(inductance_at(design, nominal_c), dtype=float).reshape(1))
     to = turn_off(
         path,
-        design.coil.inductance,
+        inductance,
         both(op.r_coil, nom.r_coil),
         both(op.coil_current, nom.coil_current),
         op.dropout_current,
@@ -249,11 +255,14 @@ def turn_offs(
     return _take(to, inverse), _take(to, np.array([rows]))
 
 
-def _turn_off_at(design, kind, vcc, values, op, rows, energies) -> TurnOff:
+def _turn_off_at(design, kind, vcc, values, op, rows, energies, corners) -> TurnOff:
     path = kind.path(design.clamp, design, vcc, values)
     r_coil = op.r_coil if rows is None else op.r_coil[rows]
     current = op.coil_current if rows is None else op.coil_current[rows]
-    return turn_off(path, design.coil.inductance, r_coil, current, op.dropout_current, energies=energies)
+    inductance = inductance_at(design, corners)
+    if isinstance(inductance, np.ndarray) and rows is not None:
+        inductance = inductance[rows]
+    return turn_off(path, inductance, r_coil, current, op.dropout_current, energies=energies)
 
 
 def _take(turnoff: TurnOff, rows: np.ndarray) -> TurnOff:

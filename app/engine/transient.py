@@ -58,12 +58,18 @@ class TurnOff:
         return self.energy if self.source_energy is None else self.energy + self.source_energy
 
 
-def _energies(path, inductance: float, decay_rate, i0: np.ndarray):
+def _per_row(inductance):
+    """The inductance against a (corners × grid) array: one number, or one per corner."""
+    inductance = np.asarray(inductance, dtype=float)
+    return inductance[:, None] if inductance.ndim == 1 else inductance
+
+
+def _energies(path, inductance, decay_rate, i0: np.ndarray):
     """Charge and energies per turn-off. The current decays to 1/1000 of I_0 here (the rest is
     < 1e-6 of the energy); one grid serves all three integrals: dt = L·di / (R·i + v_c(i))."""
     i, w = _log_grid(i0 * 1e-3, i0)
     rate = decay_rate(i)
-    dt = w * inductance / rate
+    dt = w * _per_row(inductance) / rate
     # Where nothing drives the current down (e.g. a supply above the avalanche voltage of an
     # unclamped switch) it never decays: no finite charge or energy, never a negative one.
     dt = np.where((rate > 0).all(axis=1, keepdims=True), dt, np.nan)
@@ -78,7 +84,7 @@ def _energies(path, inductance: float, decay_rate, i0: np.ndarray):
 
 def integral_turn_off(
     path,
-    inductance: float,
+    inductance,
     r_coil: np.ndarray,
     initial_current: np.ndarray,
     dropout_current: float,
@@ -87,7 +93,7 @@ def integral_turn_off(
 ) -> TurnOff:
     """The turn-off at every corner for a clamp with a voltage v_c(i) (``path.loop_voltage``);
     ``energies=False`` skips the charge and energy integrals (left as NaN) when only the spike
-    and the release time are wanted."""
+    and the release time are wanted. ``inductance``: one number, or one per corner."""
     i0 = np.asarray(initial_current, dtype=float)
     r = np.asarray(r_coil, dtype=float)[:, None]
 
@@ -99,7 +105,7 @@ def integral_turn_off(
     picked = i0 > ido
     lower = np.where(picked, ido, i0)
     with np.errstate(divide="ignore", invalid="ignore"):
-        t = _integrate_log(lambda i: inductance / decay_rate(i), lower, i0)
+        t = _integrate_log(lambda i: _per_row(inductance) / decay_rate(i), lower, i0)
         if energies:
             charge, clamp_energy, diode_energy = _energies(path, inductance, decay_rate, i0)
         else:

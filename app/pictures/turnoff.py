@@ -16,6 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from app.engine.clamps import kind_of
+from app.engine.corners import inductance_at
 from app.engine.review import build_context
 from app.engine.rules import Context
 from app.engine.switches import switch_kind
@@ -60,7 +61,7 @@ def slowest_release_corner(ctx: Context) -> int:
 
 def chosen_waveforms(ctx: Context, points: int = 160) -> dict[str, tuple[Waveform, float]]:
     """The design's own clamp at the nominal and the slowest-release corner: {corner: (waveform, I_0)}."""
-    inductance = ctx.design.coil.inductance
+    inductance = ctx.design.coil.inductance  # the nominal corner's
     nom, to_nom = ctx.nominal, ctx.turnoff_nominal
     i0_nom = float(to_nom.initial_current[0])
     out = {
@@ -74,7 +75,14 @@ def chosen_waveforms(ctx: Context, points: int = 160) -> dict[str, tuple[Wavefor
     k = slowest_release_corner(ctx)
     i0 = float(ctx.turnoff.initial_current[k])
     out["release"] = (
-        ctx.path.waveform(k, inductance, float(ctx.op.r_coil[k]), i0, ctx.op.dropout_current, points),
+        ctx.path.waveform(
+            k,
+            inductance_at(ctx.design, ctx.corners, k),
+            float(ctx.op.r_coil[k]),
+            i0,
+            ctx.op.dropout_current,
+            points,
+        ),
         i0,
     )
     return out

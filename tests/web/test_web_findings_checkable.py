@@ -2,6 +2,7 @@
 the rule used, the limit's direction, a margin column sortable without script, and on the
 review page everything the revision page has."""
 
+import html
 import re
 
 from .conftest import K1, revision_ids
@@ -134,6 +135,10 @@ def test_monte_carlo_yield_on_demand_with_its_figures_and_refusals(world, review
     assert got["yield"] == expected["yield"] and got["rules"] == expected["rules"]
     page = reviewer.get(f"/revisions/{rid}/yield", params={"samples": 2000, "seed": 4}).text
     assert f"{expected['yield'] * 100:.2f} %" in page and "Wilson" in page
+    # what the samples hold at its worst case is said as the engine says it (symbols unchanged)
+    held = expected["held"]
+    assert "V_CE(sat)" in held or "h_FE" in held or "R_DS(on)" in held
+    assert held[1:] in html.unescape(page)
     assert f'href="/revisions/{rid}/yield"' in reviewer.get(f"/revisions/{rid}").text
     for bad in ({"samples": 0}, {"samples": 100_001}, {"samples": "many"}, {"seed": -1}):
         answer = reviewer.get(f"/api/v1/revisions/{rid}/yield", params=bad)

@@ -9,6 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..clamps import Stress
+from ..corners import inductance_at
 from .core import Context, Finding, _n, _si, judge, note, rule
 
 
@@ -153,7 +154,8 @@ def clamp_energy(ctx: Context) -> Finding:
     if stress is not None:
         return _judge(ctx, "clamp.energy", stress)
     worked = (
-        f"E = ½·L·I_0² = ½·{_n(ctx.design.coil.inductance, 'H')}·({_n(to.initial_current[worst], 'A')})² = "
+        f"E = ½·L·I_0² = ½·{_n(inductance_at(ctx.design, ctx.corners, worst), 'H')}·"
+        f"({_n(to.initial_current[worst], 'A')})² = "
         f"{_n(to.energy[worst], 'J')}"
     )
     return note(ctx, "clamp.energy", float(to.energy[worst]), "J", text, worst, worked=worked)

@@ -6,6 +6,7 @@ from dataclasses import replace
 
 import numpy as np
 
+from ..corners import inductance_at
 from .core import Context, Finding, _n, _si, judge, note, rule
 
 
@@ -168,7 +169,8 @@ def release(ctx: Context) -> Finding:
         return (
             f"I_do = V_do/R_coil(T_ref) = {_n(coil.v_dropout, 'V')}/{_n(coil.r_coil, 'Ω')} = "
             f"{_n(ctx.op.dropout_current, 'A')}; I_0 = {_n(to.initial_current[i], 'A')}; "
-            f"L = {_n(coil.inductance, 'H')}; R = {_n(ctx.op.r_coil[i], 'Ω')}; {clamp_voltage}; "
+            f"L = {_n(inductance_at(ctx.design, ctx.corners, i), 'H')}; R = {_n(ctx.op.r_coil[i], 'Ω')}; "
+            f"{clamp_voltage}; "
             f"t = ∫ from I_do to I_0 of L/(R·i + v_c(i)) di = {_n(t[i], 's')}"
         )
 

@@ -6,6 +6,7 @@ from dataclasses import replace
 
 import numpy as np
 
+from ..corners import inductance_at
 from .core import RULES, Context, Finding, _n, _si, judge, rule, worse
 
 
@@ -297,7 +298,7 @@ def avalanche(ctx: Context) -> Finding | None:
     with np.errstate(divide="ignore"):
         energy = np.where(
             op.vcc < v_br,
-            0.5 * ctx.design.coil.inductance * to.initial_current**2 * v_br / (v_br - op.vcc),
+            0.5 * inductance_at(ctx.design, ctx.corners) * to.initial_current**2 * v_br / (v_br - op.vcc),
             np.inf,
         )
     worst = int(np.argmax(energy))
@@ -305,11 +306,10 @@ def avalanche(ctx: Context) -> Finding | None:
         f"½·L·I_0²·V_BR/(V_BR − V_cc) with I_0 {_si(to.initial_current[worst], 'A')}, V_BR {_si(v_br, 'V')}, "
         f"V_cc {_si(op.vcc[worst], 'V')}"
     )
-    inductance = ctx.design.coil.inductance
 
     def worked(i: int) -> str:
         return (
-            f"E = ½·L·I_0²·V_BR/(V_BR − V_cc) = ½·{_n(inductance, 'H')}·({_n(to.initial_current[i], 'A')})²·"
+            f"E = ½·L·I_0²·V_BR/(V_BR − V_cc) = ½·{_n(inductance_at(ctx.design, ctx.corners, i), 'H')}·({_n(to.initial_current[i], 'A')})²·"
             f"{_n(v_br, 'V')}/({_n(v_br, 'V')} − {_n(op.vcc[i], 'V')}) = {_n(energy[i], 'J')}"
         )
 

@@ -104,7 +104,8 @@ class NmosLowSide(SwitchKind):
         gate_current = v_th_on / (r_th_on + r_series + r_pulldown)
         tempco = threshold_tempco(fet)
         # Turning on, the threshold is highest at the coldest junction (ambient, T_J ≥ T_A).
-        vth_max_cold = fet.vgs_th_max + tempco * (ambient - 25.0)
+        # One FET has one threshold: where the Monte Carlo yield draws it, both bounds take it.
+        vth_max_cold = c.figure("vgs_th", fet.vgs_th_max) + tempco * (ambient - 25.0)
         guaranteed = vgs_on >= fet.rds_on_vgs
         conducts = vgs_on >= vth_max_cold
 
@@ -139,8 +140,8 @@ class NmosLowSide(SwitchKind):
             pickup_voltage = np.where(np.isfinite(rds), vcc * r_hot_load / (r_hot_load + rds), 0.0)
         coil_voltage_hot = np.where(conducts, pickup_voltage, 0.0)
         # Pick-up is an ampere-turn threshold: V_pu(T) = V_pu(T_ref)·R(T)/R(T_ref).
-        must_operate_hot = coil.v_pickup * cs.r_pickup / c["r_coil"]
-        vth_min_hot = fet.vgs_th_min + tempco * (tj - 25.0)
+        must_operate_hot = c.figure("v_pickup", coil.v_pickup) * cs.r_pickup / c["r_coil"]
+        vth_min_hot = c.figure("vgs_th", fet.vgs_th_min) + tempco * (tj - 25.0)
 
         sweep_dissipation = sweep_bound = None
         if divider is not None:

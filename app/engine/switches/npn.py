@@ -35,13 +35,16 @@ class NpnTransistor(SwitchKind):
 
     def operating_point(self, design, c, *, steady_state, assumed_coil_rise):
         sw = design.switch
+        # One transistor has one gain and one saturation voltage: where the Monte Carlo yield
+        # draws a figure (corners.sampled_figures), both its bounds take the drawn value.
+        hfe, vbe_sat, vce_sat = c.figure("hfe", None), c.figure("vbe_sat", None), c.figure("vce_sat", None)
         bipolar = Bipolar(
-            hfe_min=sw.hfe_min,
-            hfe_max=sw.hfe_max,
-            vbe_sat=sw.vbe_sat,
-            vbe_sat_min=sw.vbe_sat_min,
-            vce_sat=sw.vce_sat,
-            vce_sat_low=sw.vce_sat_low,
+            hfe_min=sw.hfe_min if hfe is None else hfe,
+            hfe_max=sw.hfe_max if hfe is None else hfe,
+            vbe_sat=sw.vbe_sat if vbe_sat is None else vbe_sat,
+            vbe_sat_min=sw.vbe_sat_min if vbe_sat is None else vbe_sat,
+            vce_sat=sw.vce_sat if vce_sat is None else vce_sat,
+            vce_sat_low=sw.vce_sat_low if vce_sat is None else vce_sat,
             vbe_on=sw.vbe_on,
             vbe_tempco=VBE_TEMPCO,  # about −2 mV/K (common practice)
             p_max=sw.p_max,
