@@ -9,8 +9,8 @@ from collections.abc import Iterable
 import numpy as np
 
 from . import ENGINE_VERSION
-from .circuit import operating_point
-from .clamps import DiodeClamp, DiodeZenerClamp, ResistorClamp, kind_of
+from .circuit import OperatingPoint, operating_point
+from .clamps import ClampKind, DiodeClamp, DiodeZenerClamp, ResistorClamp, kind_of
 from .corners import Corners, corners_at_rows, nominal_corner, worst_corners
 from .design import QUANTITY_RANGES, Design, Diode, Zener
 from .physics import THERMAL_VOLTAGE, DiodeModel
@@ -79,6 +79,9 @@ def _clamp_rules() -> list:
 
 
 def _passes_ctx(ctx: Context, rules: list | None = None) -> bool:
+    """Whether every rule passes (ok or a note); stops at the first that does not. The rules are
+    judged for their status only (``verdict_only``): no text is written that nobody reads."""
+    ctx = dataclasses.replace(ctx, extras={}, verdict_only=True)
     for registered in rules if rules is not None else _clamp_rules():
         if not registered.applies_to(ctx.design):
             continue
@@ -86,6 +89,41 @@ def _passes_ctx(ctx: Context, rules: list | None = None) -> bool:
         if finding is not None and finding.status in ("violation", "marginal"):
             return False
     return True
+
+
+def _no_parallel_resistance(kind: ClampKind) -> bool:
+    return type(kind).parallel_resistance is ClampKind.parallel_resistance
+
+
+def _shared_operating_point(
+    ctx: Context, corners: Corners, rows: np.ndarray
+) -> tuple[OperatingPoint, OperatingPoint] | None:
+    """The design's operating points (worst corners and nominal) for an alternative clamp's
+    corners made of the design's corners ``rows`` (corners_at_rows), or None unless every value
+    outside the clamp is the design's at those rows, checked here (the operating point depends on
+    nothing else, but for a resistance across the coil, which neither clamp has)."""
+    if not len(rows) or corners.size % len(rows):
+        return None
+    index = np.tile(rows, corners.size // len(rows))
+    own = {f[0] for f in ctx.clamp.factors(ctx.design.clamp)}
+    for name, values in ctx.corners.values.items():
+        if name not in own and not np.array_equal(corners.values.get(name), values[index]):
+            return None
+    return _op_rows(ctx.op, ctx.corners.size, index), ctx.nominal
+
+
+def _op_rows(op: OperatingPoint, size: int, index: np.ndarray) -> OperatingPoint:
+    """The operating point at some of its corners (``index``, rows may repeat): every per-corner
+    array taken at those rows, everything else (scalars, text) as it is."""
+
+    def rows(x):
+        if isinstance(x, np.ndarray) and x.ndim >= 1 and x.shape[0] == size:
+            return x[index]
+        if isinstance(x, dict):
+            return {k: rows(v) for k, v in x.items()}
+        return x
+
+    return OperatingPoint(**{f.name: rows(getattr(op, f.name)) for f in dataclasses.fields(OperatingPoint)})
 
 
 def _alternatives(ctx: Context) -> list[dict]:
@@ -152,6 +190,10 @@ def _alternatives(ctx: Context) -> list[dict]:
     rows, _ = distinct_rows([ctx.op.vcc, ctx.op.r_coil, ctx.op.coil_current])
     energies = design.switching.per_hour is not None  # only a rule with a rate uses them
     rules = _clamp_rules()
+    # The operating point depends on the clamp only through a resistance it puts across the coil
+    # (circuit.coil_state): an alternative without one, beside a design clamp without one, has the
+    # design's operating point at the same corners, so it is taken from there, not computed again.
+    plain = _no_parallel_resistance(kind_of(design.clamp))
     out = []
     for _, options in tries:
         for option in options:
@@ -160,13 +202,11 @@ def _alternatives(ctx: Context) -> list[dict]:
                 alt = ctx
             else:
                 other = design.model_copy(update={"clamp": clamp})
-                alt = context_at(
-                    other,
-                    ctx.profile,
-                    corners_at_rows(other, ctx.corners, rows),
-                    energies=energies,
-                    distinct=True,
-                )
+                corners = corners_at_rows(other, ctx.corners, rows)
+                shared = None
+                if plain and _no_parallel_resistance(kind_of(clamp)):
+                    shared = _shared_operating_point(ctx, corners, rows)
+                alt = context_at(other, ctx.profile, corners, energies=energies, distinct=True, shared=shared)
             ok = _passes_ctx(alt, rules)
             if not ok:
                 continue
@@ -267,13 +307,23 @@ def _take(turnoff: TurnOff, rows: np.ndarray) -> TurnOff:
 
 
 def context_at(
-    design: Design, profile: Profile, corners: Corners, *, energies: bool = True, distinct: bool = False
+    design: Design,
+    profile: Profile,
+    corners: Corners,
+    *,
+    energies: bool = True,
+    distinct: bool = False,
+    shared: tuple[OperatingPoint, OperatingPoint] | None = None,
 ) -> Context:
     """The evaluation context over a given set of corners (``profile`` already holds the design's
-    limits); no alternatives. ``distinct``: see turn_offs."""
+    limits); no alternatives. ``distinct``: see turn_offs. ``shared``: the operating points at
+    these corners and at the nominal corner, already known (an alternative clamp's)."""
     nominal_c = nominal_corner(design)
-    op = operating_point(design, corners, steady_state=False, assumed_coil_rise=profile.coil_rise)
-    nom = operating_point(design, nominal_c, steady_state=True, assumed_coil_rise=profile.coil_rise)
+    if shared is not None:
+        op, nom = shared
+    else:
+        op = operating_point(design, corners, steady_state=False, assumed_coil_rise=profile.coil_rise)
+        nom = operating_point(design, nominal_c, steady_state=True, assumed_coil_rise=profile.coil_rise)
     kind = kind_of(design.clamp)
     path = kind.path(design.clamp, design, op.vcc, corners.values)
     nominal_path = kind.path(design.clamp, design, nom.vcc, nominal_c.values)

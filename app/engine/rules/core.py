@@ -75,6 +75,9 @@ class Context:
     turnoff: TurnOff  # every worst-case corner
     turnoff_nominal: TurnOff
     extras: dict = field(default_factory=dict)
+    # Only the findings' statuses are read (an alternative clamp's pass or fail): judge() leaves
+    # out the message, the worked formula and the corner.
+    verdict_only: bool = False
 
     @property
     def clamp(self) -> ClampKind:
@@ -189,6 +192,8 @@ def judge(
     else:
         worst = int(np.argmax(over_limit))
         status = "marginal" if over_limit[worst] > 1 else "ok"
+    if ctx.verdict_only:
+        return Finding(rule_id, RULES[rule_id].title, status, float(value[worst]), unit, None, None, {}, "")
     return Finding(
         rule=rule_id,
         title=RULES[rule_id].title,
