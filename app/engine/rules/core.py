@@ -137,6 +137,13 @@ def corner_used(ctx: Context, index: int, *, hot_coil: bool = False) -> dict[str
     return corner
 
 
+def _nothing_allowed(bound: np.ndarray | float, ratio: np.ndarray, n: int) -> np.ndarray:
+    """``ratio`` with ∞ wherever ``bound`` (one number, or one per corner) is zero or less."""
+    if np.ndim(bound) == 0:  # one number: no array of n copies to compare
+        return np.full(n, np.inf) if bound <= 0 else ratio
+    return np.where(np.broadcast_to(bound, (n,)) <= 0, np.inf, ratio)
+
+
 def judge(
     ctx: Context,
     rule_id: str,
@@ -170,8 +177,8 @@ def judge(
             if infinite.any():
                 over_rating[infinite] = over_limit[infinite] = np.inf
             # A rating (or limit) of zero or less allows nothing: any stress is past it.
-            over_rating = np.where(np.broadcast_to(rating, (n,)) <= 0, np.inf, over_rating)
-            over_limit = np.where(np.broadcast_to(limit, (n,)) <= 0, np.inf, over_limit)
+            over_rating = _nothing_allowed(rating, over_rating, n)
+            over_limit = _nothing_allowed(limit, over_limit, n)
         else:
             over_rating = rating / value
             over_limit = limit / value
@@ -186,11 +193,11 @@ def judge(
         if rule_id in per_corner:  # a rule judged two ways: past either
             past = (per_corner[rule_id][0] | past[0], per_corner[rule_id][1] | past[1])
         per_corner[rule_id] = past
-    worst_rating = int(np.argmax(over_rating))
+    worst_rating = int(over_rating.argmax())
     if over_rating[worst_rating] > 1:
         worst, status = worst_rating, "violation"
     else:
-        worst = int(np.argmax(over_limit))
+        worst = int(over_limit.argmax())
         status = "marginal" if over_limit[worst] > 1 else "ok"
     if ctx.verdict_only:
         return Finding(rule_id, RULES[rule_id].title, status, float(value[worst]), unit, None, None, {}, "")
