@@ -95,21 +95,14 @@ def _no_parallel_resistance(kind: ClampKind) -> bool:
     return type(kind).parallel_resistance is ClampKind.parallel_resistance
 
 
-def _shared_operating_point(
-    ctx: Context, corners: Corners, rows: np.ndarray
-) -> tuple[OperatingPoint, OperatingPoint] | None:
+def _shared_operating_point(ctx: Context, corners: Corners) -> tuple[OperatingPoint, OperatingPoint] | None:
     """The design's operating points (worst corners and nominal) for an alternative clamp's
-    corners made of the design's corners ``rows`` (corners_at_rows), or None unless every value
-    outside the clamp is the design's at those rows, checked here (the operating point depends on
-    nothing else, but for a resistance across the coil, which neither clamp has)."""
-    if not len(rows) or corners.size % len(rows):
+    corners taken from the design's own (corners_at_rows: every value outside the clamp is the
+    design's at those corners, and the operating point depends on nothing else but for a
+    resistance across the coil, which neither clamp has); None for corners made otherwise."""
+    if corners.origin is None or corners.origin[0] is not ctx.corners:
         return None
-    index = np.tile(rows, corners.size // len(rows))
-    own = {f[0] for f in ctx.clamp.factors(ctx.design.clamp)}
-    for name, values in ctx.corners.values.items():
-        if name not in own and not np.array_equal(corners.values.get(name), values[index]):
-            return None
-    return _op_rows(ctx.op, ctx.corners.size, index), ctx.nominal
+    return _op_rows(ctx.op, ctx.corners.size, corners.origin[1]), ctx.nominal
 
 
 def _op_rows(op: OperatingPoint, size: int, index: np.ndarray) -> OperatingPoint:
@@ -205,7 +198,7 @@ def _alternatives(ctx: Context) -> list[dict]:
                 corners = corners_at_rows(other, ctx.corners, rows)
                 shared = None
                 if plain and _no_parallel_resistance(kind_of(clamp)):
-                    shared = _shared_operating_point(ctx, corners, rows)
+                    shared = _shared_operating_point(ctx, corners)
                 alt = context_at(other, ctx.profile, corners, energies=energies, distinct=True, shared=shared)
             ok = _passes_ctx(alt, rules)
             if not ok:
