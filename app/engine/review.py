@@ -199,7 +199,16 @@ def _alternatives(ctx: Context) -> list[dict]:
                 shared = None
                 if plain and _no_parallel_resistance(kind_of(clamp)):
                     shared = _shared_operating_point(ctx, corners)
-                alt = context_at(other, ctx.profile, corners, energies=energies, distinct=True, shared=shared)
+                # Of the nominal turn-off only the release time and the spike are read here.
+                alt = context_at(
+                    other,
+                    ctx.profile,
+                    corners,
+                    energies=energies,
+                    distinct=True,
+                    shared=shared,
+                    nominal_energies=False,
+                )
             ok = _passes_ctx(alt, rules)
             if not ok:
                 continue
@@ -240,6 +249,7 @@ def turn_offs(
     *,
     energies: bool = True,
     distinct: bool = False,
+    nominal_energies: bool = True,
 ) -> tuple[TurnOff, TurnOff]:
     """The turn-off at every worst-case corner and at the nominal corner, in one computation.
 
@@ -250,8 +260,8 @@ def turn_offs(
     one more row, and copied to the corners that share it: every figure is the one a
     corner-by-corner computation gives, bit for bit (each row is computed on its own).
     ``energies=False`` leaves the worst corners' charge and energies NaN (the nominal corner's
-    are always computed). ``distinct``: the corners are known to differ in their turn-off inputs
-    (``corners_at_rows``), so none is looked for."""
+    are computed unless ``nominal_energies=False`` too). ``distinct``: the corners are known to
+    differ in their turn-off inputs (``corners_at_rows``), so none is looked for."""
     kind = kind_of(design.clamp)
     names = [f[0] for f in kind.factors(design.clamp)]
     if distinct:
@@ -263,7 +273,7 @@ def turn_offs(
     def both(worst: np.ndarray, nominal: np.ndarray) -> np.ndarray:
         return np.concatenate((worst[first], nominal))
 
-    if not energies:  # the nominal corner needs them: compute it apart
+    if not energies and nominal_energies:  # the nominal corner needs them: compute it apart
         worst = _turn_off_at(
             design, kind, op.vcc[first], {n: corners[n][first] for n in names}, op, first, False
         )
@@ -278,8 +288,10 @@ def turn_offs(
         both(op.r_coil, nom.r_coil),
         both(op.coil_current, nom.coil_current),
         op.dropout_current,
+        energies=energies,
     )
-    return _take(to, inverse), _take(to, np.array([rows]))
+    # Distinct corners are the first rows as they are (a slice, no copy by index).
+    return _take(to, slice(0, rows) if distinct else inverse), _take(to, np.array([rows]))
 
 
 def _turn_off_at(design, kind, vcc, values, op, rows, energies) -> TurnOff:
@@ -307,10 +319,12 @@ def context_at(
     energies: bool = True,
     distinct: bool = False,
     shared: tuple[OperatingPoint, OperatingPoint] | None = None,
+    nominal_energies: bool = True,
 ) -> Context:
     """The evaluation context over a given set of corners (``profile`` already holds the design's
-    limits); no alternatives. ``distinct``: see turn_offs. ``shared``: the operating points at
-    these corners and at the nominal corner, already known (an alternative clamp's)."""
+    limits); no alternatives. ``distinct``, ``energies``, ``nominal_energies``: see turn_offs.
+    ``shared``: the operating points at these corners and at the nominal corner, already known
+    (an alternative clamp's)."""
     nominal_c = nominal_corner(design)
     if shared is not None:
         op, nom = shared
@@ -320,7 +334,16 @@ def context_at(
     kind = kind_of(design.clamp)
     path = kind.path(design.clamp, design, op.vcc, corners.values)
     nominal_path = kind.path(design.clamp, design, nom.vcc, nominal_c.values)
-    to, to_nom = turn_offs(design, corners, op, nominal_c, nom, energies=energies, distinct=distinct)
+    to, to_nom = turn_offs(
+        design,
+        corners,
+        op,
+        nominal_c,
+        nom,
+        energies=energies,
+        distinct=distinct,
+        nominal_energies=nominal_energies,
+    )
     return Context(design, profile, corners, op, nom, path, nominal_path, to, to_nom)
 
 
