@@ -4,7 +4,7 @@ tests and the benchmarks call."""
 from __future__ import annotations
 
 import dataclasses
-from collections.abc import Iterable
+from collections.abc import Iterable, Iterator
 
 import numpy as np
 
@@ -12,7 +12,7 @@ from . import ENGINE_VERSION
 from .circuit import OperatingPoint, operating_point
 from .clamps import ClampKind, DiodeClamp, DiodeZenerClamp, ResistorClamp, kind_of
 from .corners import Corners, corners_at_rows, nominal_corner, worst_corners
-from .design import QUANTITY_RANGES, Design, Diode, Zener
+from .design import QUANTITY_RANGES, Design, Diode, Model, Zener
 from .physics import THERMAL_VOLTAGE, DiodeModel
 from .profile import DEFAULT_PROFILE, Profile
 from .rules import RULES, STATUS_ORDER, Context, Finding
@@ -119,6 +119,36 @@ def _op_rows(op: OperatingPoint, size: int, index: np.ndarray) -> OperatingPoint
     return OperatingPoint(**{f.name: rows(getattr(op, f.name)) for f in dataclasses.fields(OperatingPoint)})
 
 
+def _zener_options(diode_part: Diode, vz: float) -> Iterator[tuple[str, Model]]:
+    """The diode + zener candidates: E24 zener voltages from ``vz`` down, three at most."""
+    for _ in range(3):
+        zener = Zener(vz=vz, tolerance=E24_TOLERANCE, rz=_ZENER_RZ, p_max=_ZENER_WATTS)
+        yield (
+            f"diode + {vz:g} V zener (E24, ±{E24_TOLERANCE} %, {_ZENER_WATTS:g} W)",
+            DiodeZenerClamp(kind="diode_zener", diode=diode_part, zener=zener),
+        )
+        vz = _e24_below(vz)
+        if vz is None:
+            return
+
+
+def _resistor_options(v_high: float, power_fraction: float, r: float) -> Iterator[tuple[str, Model]]:
+    """The resistor candidates: E24 values from ``r`` down, three at most, each of the smallest
+    power size that holds V_cc,max²/R_min within the derated rating (none once no size does)."""
+    for _ in range(3):
+        p_on = v_high**2 / (r * (1 - E24_TOLERANCE / 100))
+        watts = next((w for w in _RESISTOR_WATTS if p_on <= power_fraction * w), None)
+        if watts is None:
+            return
+        yield (
+            f"resistor {format_si(r, 'Ω')} (E24, ±{E24_TOLERANCE} %, {watts:g} W)",
+            ResistorClamp(kind="resistor", r=r, tolerance=E24_TOLERANCE, power_rating=watts),
+        )
+        r = _e24_below(r)
+        if r is None:
+            return
+
+
 def _alternatives(ctx: Context) -> list[dict]:
     """Other clamps, for comparison: a plain diode, and the largest E24 zener (5 %) and E24
     resistor (5 %) that keep the worst spike within the derated V_(BR)CEO (the fastest release
@@ -136,7 +166,9 @@ def _alternatives(ctx: Context) -> list[dict]:
     i0_worst = float(np.max(ctx.turnoff.initial_current))
     limit = ctx.profile.voltage * ctx.switch.breakdown(design.switch)
     v_budget = limit - design.supply.high
-    tries: list[tuple[str, list]] = [("diode", [("diode", DiodeClamp(kind="diode", diode=diode_part))])]
+    # Each kind's candidates, best first, each made only when the one before it failed (the first
+    # usually passes).
+    tries: list[Iterator[tuple[str, Model]]] = [iter([("diode", DiodeClamp(kind="diode", diode=diode_part))])]
     # Zener: V_Z(1 + tol) + V_T·ln(I_0/I_ZT) + (I_0 − I_ZT)·r_Z + V_F(I_0) within the budget.
     v_f = float(diode.voltage(i0_worst))
     room = (
@@ -145,40 +177,17 @@ def _alternatives(ctx: Context) -> list[dict]:
         - THERMAL_VOLTAGE * np.log(max(i0_worst, 0.005) / 0.005)
         - (i0_worst - 0.005) * _ZENER_RZ
     )
-    zeners = []
     vz = e24_at_most(room / (1 + E24_TOLERANCE / 100)) if room > 1 else None
-    while vz is not None and len(zeners) < 3:
-        zener = Zener(vz=vz, tolerance=E24_TOLERANCE, rz=_ZENER_RZ, p_max=_ZENER_WATTS)
-        zeners.append(
-            (
-                f"diode + {vz:g} V zener (E24, ±{E24_TOLERANCE} %, {_ZENER_WATTS:g} W)",
-                DiodeZenerClamp(kind="diode_zener", diode=diode_part, zener=zener),
-            )
-        )
-        vz = _e24_below(vz)
-    if zeners:
-        tries.append(("zener", zeners))
-    resistors = []
+    if vz is not None:
+        tries.append(_zener_options(diode_part, vz))
     # No larger than a design file may give (QUANTITY_RANGES: 1 GΩ), so a tiny coil current
     # cannot suggest a resistor the design's own model would refuse.
     r_most = (
         min(v_budget / (i0_worst * (1 + E24_TOLERANCE / 100)), QUANTITY_RANGES["Ω"][1]) if v_budget > 0 else 0
     )
     r = e24_at_most(r_most) if r_most > 0 else None
-    while r is not None and len(resistors) < 3:
-        p_on = design.supply.high**2 / (r * (1 - E24_TOLERANCE / 100))
-        watts = next((w for w in _RESISTOR_WATTS if p_on <= ctx.profile.power * w), None)
-        if watts is None:
-            break
-        resistors.append(
-            (
-                f"resistor {format_si(r, 'Ω')} (E24, ±{E24_TOLERANCE} %, {watts:g} W)",
-                ResistorClamp(kind="resistor", r=r, tolerance=E24_TOLERANCE, power_rating=watts),
-            )
-        )
-        r = _e24_below(r)
-    if resistors:
-        tries.append(("resistor", resistors))
+    if r is not None:
+        tries.append(_resistor_options(design.supply.high, ctx.profile.power, r))
     # The design's corners with distinct turn-off inputs outside the clamp.
     rows, _ = distinct_rows([ctx.op.vcc, ctx.op.r_coil, ctx.op.coil_current])
     energies = design.switching.per_hour is not None  # only a rule with a rate uses them
@@ -188,9 +197,8 @@ def _alternatives(ctx: Context) -> list[dict]:
     # design's operating point at the same corners, so it is taken from there, not computed again.
     plain = _no_parallel_resistance(kind_of(design.clamp))
     out = []
-    for _, options in tries:
-        for option in options:
-            label, clamp = option
+    for options in tries:
+        for label, clamp in options:
             if clamp == design.clamp:  # the design's own clamp: already evaluated
                 alt = ctx
             else:
