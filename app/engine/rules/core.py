@@ -119,8 +119,15 @@ def rule(rule_id: str, title: str, *, kinds: tuple[str, ...] | None = None):
     return register
 
 
+def _ndim(x) -> int:
+    """np.ndim(x), without its dispatch for the plain numbers and arrays judge() is given."""
+    if isinstance(x, np.ndarray):
+        return x.ndim
+    return 0 if isinstance(x, (float, int)) else np.ndim(x)
+
+
 def _at(x: np.ndarray | float, index: int) -> float:
-    return float(x[index]) if np.ndim(x) else float(x)
+    return float(x[index]) if _ndim(x) else float(x)
 
 
 def corner_used(ctx: Context, index: int, *, hot_coil: bool = False) -> dict[str, float]:
@@ -139,7 +146,7 @@ def corner_used(ctx: Context, index: int, *, hot_coil: bool = False) -> dict[str
 
 def _nothing_allowed(bound: np.ndarray | float, ratio: np.ndarray, n: int) -> np.ndarray:
     """``ratio`` with ∞ wherever ``bound`` (one number, or one per corner) is zero or less."""
-    if np.ndim(bound) == 0:  # one number: no array of n copies to compare
+    if _ndim(bound) == 0:  # one number: no array of n copies to compare
         return np.full(n, np.inf) if bound <= 0 else ratio
     return np.where(np.broadcast_to(bound, (n,)) <= 0, np.inf, ratio)
 
