@@ -7,7 +7,7 @@ separate set of arrays of length 1.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -31,6 +31,8 @@ class Corners:
     factors: tuple[Factor, ...]
     values: dict[str, np.ndarray]
     size: int
+    # (base, index): every value outside the clamp is base's at corners ``index`` (corners_at_rows).
+    origin: tuple[Corners, np.ndarray] | None = field(default=None, compare=False, repr=False)
 
     def describe(self, index: int) -> dict[str, float]:
         """The parameter values of one corner, for a finding's ``corner``."""
@@ -157,9 +159,10 @@ def corners_at_rows(design: Design, base: Corners, rows: np.ndarray) -> Corners:
     worst corners, with the same values."""
     circuit, clamp = circuit_factors(design), clamp_factors(design)
     own, count = _extremes(clamp)
-    values = {f.name: np.tile(base.values[f.name][rows], count) for f in circuit}
+    index = np.tile(rows, count)
+    values = {f.name: base.values[f.name][index] for f in circuit}
     values.update({name: np.repeat(array, len(rows)) for name, array in own.items()})
-    return Corners(tuple(circuit + clamp), values, len(rows) * count)
+    return Corners(tuple(circuit + clamp), values, len(rows) * count, origin=(base, index))
 
 
 def nominal_corner(design: Design) -> Corners:

@@ -4,15 +4,15 @@ tests and the benchmarks call."""
 from __future__ import annotations
 
 import dataclasses
-from collections.abc import Iterable
+from collections.abc import Iterable, Iterator
 
 import numpy as np
 
 from . import ENGINE_VERSION
-from .circuit import operating_point
-from .clamps import DiodeClamp, DiodeZenerClamp, ResistorClamp, kind_of
+from .circuit import OperatingPoint, operating_point
+from .clamps import ClampKind, DiodeClamp, DiodeZenerClamp, ResistorClamp, kind_of
 from .corners import Corners, corners_at_rows, inductance_at, nominal_corner, worst_corners
-from .design import QUANTITY_RANGES, Design, Diode, Zener
+from .design import QUANTITY_RANGES, Design, Diode, Model, Zener
 from .physics import THERMAL_VOLTAGE, DiodeModel
 from .profile import DEFAULT_PROFILE, Profile
 from .rules import RULES, STATUS_ORDER, Context, Finding
@@ -79,6 +79,9 @@ def _clamp_rules() -> list:
 
 
 def _passes_ctx(ctx: Context, rules: list | None = None) -> bool:
+    """Whether every rule passes (ok or a note); stops at the first that does not. The rules are
+    judged for their status only (``verdict_only``): no text is written that nobody reads."""
+    ctx = dataclasses.replace(ctx, extras={}, verdict_only=True)
     for registered in rules if rules is not None else _clamp_rules():
         if not registered.applies_to(ctx.design):
             continue
@@ -86,6 +89,64 @@ def _passes_ctx(ctx: Context, rules: list | None = None) -> bool:
         if finding is not None and finding.status in ("violation", "marginal"):
             return False
     return True
+
+
+def _no_parallel_resistance(kind: ClampKind) -> bool:
+    return type(kind).parallel_resistance is ClampKind.parallel_resistance
+
+
+def _shared_operating_point(ctx: Context, corners: Corners) -> tuple[OperatingPoint, OperatingPoint] | None:
+    """The design's operating points (worst corners and nominal) for an alternative clamp's
+    corners taken from the design's own (corners_at_rows: every value outside the clamp is the
+    design's at those corners, and the operating point depends on nothing else but for a
+    resistance across the coil, which neither clamp has); None for corners made otherwise."""
+    if corners.origin is None or corners.origin[0] is not ctx.corners:
+        return None
+    return _op_rows(ctx.op, ctx.corners.size, corners.origin[1]), ctx.nominal
+
+
+def _op_rows(op: OperatingPoint, size: int, index: np.ndarray) -> OperatingPoint:
+    """The operating point at some of its corners (``index``, rows may repeat): every per-corner
+    array taken at those rows, everything else (scalars, text) as it is."""
+
+    def rows(x):
+        if isinstance(x, np.ndarray) and x.ndim >= 1 and x.shape[0] == size:
+            return x[index]
+        if isinstance(x, dict):
+            return {k: rows(v) for k, v in x.items()}
+        return x
+
+    return OperatingPoint(**{f.name: rows(getattr(op, f.name)) for f in dataclasses.fields(OperatingPoint)})
+
+
+def _zener_options(diode_part: Diode, vz: float) -> Iterator[tuple[str, Model]]:
+    """The diode + zener candidates: E24 zener voltages from ``vz`` down, three at most."""
+    for _ in range(3):
+        zener = Zener(vz=vz, tolerance=E24_TOLERANCE, rz=_ZENER_RZ, p_max=_ZENER_WATTS)
+        yield (
+            f"diode + {vz:g} V zener (E24, ±{E24_TOLERANCE} %, {_ZENER_WATTS:g} W)",
+            DiodeZenerClamp(kind="diode_zener", diode=diode_part, zener=zener),
+        )
+        vz = _e24_below(vz)
+        if vz is None:
+            return
+
+
+def _resistor_options(v_high: float, power_fraction: float, r: float) -> Iterator[tuple[str, Model]]:
+    """The resistor candidates: E24 values from ``r`` down, three at most, each of the smallest
+    power size that holds V_cc,max²/R_min within the derated rating (none once no size does)."""
+    for _ in range(3):
+        p_on = v_high**2 / (r * (1 - E24_TOLERANCE / 100))
+        watts = next((w for w in _RESISTOR_WATTS if p_on <= power_fraction * w), None)
+        if watts is None:
+            return
+        yield (
+            f"resistor {format_si(r, 'Ω')} (E24, ±{E24_TOLERANCE} %, {watts:g} W)",
+            ResistorClamp(kind="resistor", r=r, tolerance=E24_TOLERANCE, power_rating=watts),
+        )
+        r = _e24_below(r)
+        if r is None:
+            return
 
 
 def _alternatives(ctx: Context) -> list[dict]:
@@ -105,7 +166,9 @@ def _alternatives(ctx: Context) -> list[dict]:
     i0_worst = float(np.max(ctx.turnoff.initial_current))
     limit = ctx.profile.voltage * ctx.switch.breakdown(design.switch)
     v_budget = limit - design.supply.high
-    tries: list[tuple[str, list]] = [("diode", [("diode", DiodeClamp(kind="diode", diode=diode_part))])]
+    # Each kind's candidates, best first, each made only when the one before it failed (the first
+    # usually passes).
+    tries: list[Iterator[tuple[str, Model]]] = [iter([("diode", DiodeClamp(kind="diode", diode=diode_part))])]
     # Zener: V_Z(1 + tol) + V_T·ln(I_0/I_ZT) + (I_0 − I_ZT)·r_Z + V_F(I_0) within the budget.
     v_f = float(diode.voltage(i0_worst))
     room = (
@@ -114,58 +177,45 @@ def _alternatives(ctx: Context) -> list[dict]:
         - THERMAL_VOLTAGE * np.log(max(i0_worst, 0.005) / 0.005)
         - (i0_worst - 0.005) * _ZENER_RZ
     )
-    zeners = []
     vz = e24_at_most(room / (1 + E24_TOLERANCE / 100)) if room > 1 else None
-    while vz is not None and len(zeners) < 3:
-        zener = Zener(vz=vz, tolerance=E24_TOLERANCE, rz=_ZENER_RZ, p_max=_ZENER_WATTS)
-        zeners.append(
-            (
-                f"diode + {vz:g} V zener (E24, ±{E24_TOLERANCE} %, {_ZENER_WATTS:g} W)",
-                DiodeZenerClamp(kind="diode_zener", diode=diode_part, zener=zener),
-            )
-        )
-        vz = _e24_below(vz)
-    if zeners:
-        tries.append(("zener", zeners))
-    resistors = []
+    if vz is not None:
+        tries.append(_zener_options(diode_part, vz))
     # No larger than a design file may give (QUANTITY_RANGES: 1 GΩ), so a tiny coil current
     # cannot suggest a resistor the design's own model would refuse.
     r_most = (
         min(v_budget / (i0_worst * (1 + E24_TOLERANCE / 100)), QUANTITY_RANGES["Ω"][1]) if v_budget > 0 else 0
     )
     r = e24_at_most(r_most) if r_most > 0 else None
-    while r is not None and len(resistors) < 3:
-        p_on = design.supply.high**2 / (r * (1 - E24_TOLERANCE / 100))
-        watts = next((w for w in _RESISTOR_WATTS if p_on <= ctx.profile.power * w), None)
-        if watts is None:
-            break
-        resistors.append(
-            (
-                f"resistor {format_si(r, 'Ω')} (E24, ±{E24_TOLERANCE} %, {watts:g} W)",
-                ResistorClamp(kind="resistor", r=r, tolerance=E24_TOLERANCE, power_rating=watts),
-            )
-        )
-        r = _e24_below(r)
-    if resistors:
-        tries.append(("resistor", resistors))
+    if r is not None:
+        tries.append(_resistor_options(design.supply.high, ctx.profile.power, r))
     # The design's corners with distinct turn-off inputs outside the clamp.
     rows, _ = distinct_rows([ctx.op.vcc, ctx.op.r_coil, ctx.op.coil_current])
     energies = design.switching.per_hour is not None  # only a rule with a rate uses them
     rules = _clamp_rules()
+    # The operating point depends on the clamp only through a resistance it puts across the coil
+    # (circuit.coil_state): an alternative without one, beside a design clamp without one, has the
+    # design's operating point at the same corners, so it is taken from there, not computed again.
+    plain = _no_parallel_resistance(kind_of(design.clamp))
     out = []
-    for _, options in tries:
-        for option in options:
-            label, clamp = option
+    for options in tries:
+        for label, clamp in options:
             if clamp == design.clamp:  # the design's own clamp: already evaluated
                 alt = ctx
             else:
                 other = design.model_copy(update={"clamp": clamp})
+                corners = corners_at_rows(other, ctx.corners, rows)
+                shared = None
+                if plain and _no_parallel_resistance(kind_of(clamp)):
+                    shared = _shared_operating_point(ctx, corners)
+                # Of the nominal turn-off only the release time and the spike are read here.
                 alt = context_at(
                     other,
                     ctx.profile,
-                    corners_at_rows(other, ctx.corners, rows),
+                    corners,
                     energies=energies,
                     distinct=True,
+                    shared=shared,
+                    nominal_energies=False,
                 )
             ok = _passes_ctx(alt, rules)
             if not ok:
@@ -207,6 +257,7 @@ def turn_offs(
     *,
     energies: bool = True,
     distinct: bool = False,
+    nominal_energies: bool = True,
 ) -> tuple[TurnOff, TurnOff]:
     """The turn-off at every worst-case corner and at the nominal corner, in one computation.
 
@@ -217,8 +268,8 @@ def turn_offs(
     one more row, and copied to the corners that share it: every figure is the one a
     corner-by-corner computation gives, bit for bit (each row is computed on its own).
     ``energies=False`` leaves the worst corners' charge and energies NaN (the nominal corner's
-    are always computed). ``distinct``: the corners are known to differ in their turn-off inputs
-    (``corners_at_rows``), so none is looked for."""
+    are computed unless ``nominal_energies=False`` too). ``distinct``: the corners are known to
+    differ in their turn-off inputs (``corners_at_rows``), so none is looked for."""
     kind = kind_of(design.clamp)
     names = [f[0] for f in kind.factors(design.clamp)]
     if distinct:
@@ -231,7 +282,7 @@ def turn_offs(
     def both(worst: np.ndarray, nominal: np.ndarray) -> np.ndarray:
         return np.concatenate((worst[first], nominal))
 
-    if not energies:  # the nominal corner needs them: compute it apart
+    if not energies and nominal_energies:  # the nominal corner needs them: compute it apart
         worst = _turn_off_at(
             design, kind, op.vcc[first], {n: corners[n][first] for n in names}, op, first, False, corners
         )
@@ -251,8 +302,10 @@ def turn_offs(
         both(op.r_coil, nom.r_coil),
         both(op.coil_current, nom.coil_current),
         op.dropout_current,
+        energies=energies,
     )
-    return _take(to, inverse), _take(to, np.array([rows]))
+    # Distinct corners are the first rows as they are (a slice, no copy by index).
+    return _take(to, slice(0, rows) if distinct else inverse), _take(to, np.array([rows]))
 
 
 def _turn_off_at(design, kind, vcc, values, op, rows, energies, corners) -> TurnOff:
@@ -276,17 +329,38 @@ def _take(turnoff: TurnOff, rows: np.ndarray) -> TurnOff:
 
 
 def context_at(
-    design: Design, profile: Profile, corners: Corners, *, energies: bool = True, distinct: bool = False
+    design: Design,
+    profile: Profile,
+    corners: Corners,
+    *,
+    energies: bool = True,
+    distinct: bool = False,
+    shared: tuple[OperatingPoint, OperatingPoint] | None = None,
+    nominal_energies: bool = True,
 ) -> Context:
     """The evaluation context over a given set of corners (``profile`` already holds the design's
-    limits); no alternatives. ``distinct``: see turn_offs."""
+    limits); no alternatives. ``distinct``, ``energies``, ``nominal_energies``: see turn_offs.
+    ``shared``: the operating points at these corners and at the nominal corner, already known
+    (an alternative clamp's)."""
     nominal_c = nominal_corner(design)
-    op = operating_point(design, corners, steady_state=False, assumed_coil_rise=profile.coil_rise)
-    nom = operating_point(design, nominal_c, steady_state=True, assumed_coil_rise=profile.coil_rise)
+    if shared is not None:
+        op, nom = shared
+    else:
+        op = operating_point(design, corners, steady_state=False, assumed_coil_rise=profile.coil_rise)
+        nom = operating_point(design, nominal_c, steady_state=True, assumed_coil_rise=profile.coil_rise)
     kind = kind_of(design.clamp)
     path = kind.path(design.clamp, design, op.vcc, corners.values)
     nominal_path = kind.path(design.clamp, design, nom.vcc, nominal_c.values)
-    to, to_nom = turn_offs(design, corners, op, nominal_c, nom, energies=energies, distinct=distinct)
+    to, to_nom = turn_offs(
+        design,
+        corners,
+        op,
+        nominal_c,
+        nom,
+        energies=energies,
+        distinct=distinct,
+        nominal_energies=nominal_energies,
+    )
     return Context(design, profile, corners, op, nom, path, nominal_path, to, to_nom)
 
 

@@ -122,20 +122,25 @@ def parse_percent(value: object) -> float:
     return parse_quantity(value, "") / 100.0
 
 
+_PLAIN_UNITS = frozenset(("°C", "%", "", "×", "K/W", "/h"))
+# exponent -> (prefix, 10**exponent), the same numbers 10**exponent gives each time
+_ENGINEERING = {
+    e: (p, 10**e)
+    for e, p in zip(range(-15, 12, 3), ("f", "p", "n", "µ", "m", "", "k", "M", "G"), strict=True)
+}
+
+
 def format_si(value: float | None, unit: str = "", digits: int = 3) -> str:
     """Engineering notation for people: 0.0734 A -> "73.4 mA"."""
     if value is None:
         return "—"
     if not math.isfinite(value):
         return "∞" if value > 0 else "−∞"
-    if unit in ("°C", "%", "", "×", "K/W", "/h"):
+    if unit in _PLAIN_UNITS:
         text = f"{value:.{digits}g}" if abs(value) < 1e4 else f"{value:.0f}"
         return f"{text} {unit}".strip()
     if value == 0:
         return f"0 {unit}".strip()
     exponent = int(math.floor(math.log10(abs(value)) / 3) * 3)
-    exponent = max(-15, min(9, exponent))
-    symbol = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G"}[exponent]
-    scaled = value / 10**exponent
-    text = f"{scaled:.{digits}g}"
-    return f"{text} {symbol}{unit}"
+    symbol, scale = _ENGINEERING[max(-15, min(9, exponent))]
+    return f"{value / scale:.{digits}g} {symbol}{unit}"

@@ -75,6 +75,9 @@ class Context:
     turnoff: TurnOff  # every worst-case corner
     turnoff_nominal: TurnOff
     extras: dict = field(default_factory=dict)
+    # Only the findings' statuses are read (an alternative clamp's pass or fail): judge() leaves
+    # out the message, the worked formula and the corner.
+    verdict_only: bool = False
 
     @property
     def clamp(self) -> ClampKind:
@@ -116,8 +119,15 @@ def rule(rule_id: str, title: str, *, kinds: tuple[str, ...] | None = None):
     return register
 
 
+def _ndim(x) -> int:
+    """np.ndim(x), without its dispatch for the plain numbers and arrays judge() is given."""
+    if isinstance(x, np.ndarray):
+        return x.ndim
+    return 0 if isinstance(x, (float, int)) else np.ndim(x)
+
+
 def _at(x: np.ndarray | float, index: int) -> float:
-    return float(x[index]) if np.ndim(x) else float(x)
+    return float(x[index]) if _ndim(x) else float(x)
 
 
 def corner_used(ctx: Context, index: int, *, hot_coil: bool = False) -> dict[str, float]:
@@ -132,6 +142,13 @@ def corner_used(ctx: Context, index: int, *, hot_coil: bool = False) -> dict[str
     corner["coil_temp"] = float(f"{_at(temp, index):.6g}")
     corner["r_coil_used"] = float(f"{_at(resistance, index):.6g}")
     return corner
+
+
+def _nothing_allowed(bound: np.ndarray | float, ratio: np.ndarray, n: int) -> np.ndarray:
+    """``ratio`` with ∞ wherever ``bound`` (one number, or one per corner) is zero or less."""
+    if _ndim(bound) == 0:  # one number: no array of n copies to compare
+        return np.full(n, np.inf) if bound <= 0 else ratio
+    return np.where(np.broadcast_to(bound, (n,)) <= 0, np.inf, ratio)
 
 
 def judge(
@@ -167,8 +184,8 @@ def judge(
             if infinite.any():
                 over_rating[infinite] = over_limit[infinite] = np.inf
             # A rating (or limit) of zero or less allows nothing: any stress is past it.
-            over_rating = np.where(np.broadcast_to(rating, (n,)) <= 0, np.inf, over_rating)
-            over_limit = np.where(np.broadcast_to(limit, (n,)) <= 0, np.inf, over_limit)
+            over_rating = _nothing_allowed(rating, over_rating, n)
+            over_limit = _nothing_allowed(limit, over_limit, n)
         else:
             over_rating = rating / value
             over_limit = limit / value
@@ -183,12 +200,14 @@ def judge(
         if rule_id in per_corner:  # a rule judged two ways: past either
             past = (per_corner[rule_id][0] | past[0], per_corner[rule_id][1] | past[1])
         per_corner[rule_id] = past
-    worst_rating = int(np.argmax(over_rating))
+    worst_rating = int(over_rating.argmax())
     if over_rating[worst_rating] > 1:
         worst, status = worst_rating, "violation"
     else:
-        worst = int(np.argmax(over_limit))
+        worst = int(over_limit.argmax())
         status = "marginal" if over_limit[worst] > 1 else "ok"
+    if ctx.verdict_only:
+        return Finding(rule_id, RULES[rule_id].title, status, float(value[worst]), unit, None, None, {}, "")
     return Finding(
         rule=rule_id,
         title=RULES[rule_id].title,

@@ -6,7 +6,6 @@ states."""
 from __future__ import annotations
 
 import numpy as np
-from scipy.special import lambertw
 
 from ..circuit import OperatingPoint, coil_state, drive_thevenin
 from ..design import NmosFet
@@ -39,6 +38,8 @@ def junction_with_rds(fet: NmosFet, current, ambient):
     Lambert W function, scipy.special.lambertw): the stable operating point. There is no root
     when a·b > 1/e — each degree raises the dissipation faster than the heat can leave, thermal
     runaway — and T_J and P are then infinite. Returns (T_J, R_DS(on)(T_J), P)."""
+    from scipy.special import lambertw  # on first use: scipy.special takes a good part of the CLI's start
+
     b = np.log(fet.rds_on_hot) / 100.0
     a = fet.rth_ja * np.asarray(current) ** 2 * fet.rds_on * rds_ratio(fet, ambient)
     ab = a * b
