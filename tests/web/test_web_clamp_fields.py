@@ -80,3 +80,24 @@ def test_revision_page_shows_alternatives_at_the_slowest_corner(reviewer, world)
     assert alternatives and all(a["time_to_dropout_worst"] >= a["time_to_dropout"] for a in alternatives)
     page = reviewer.get(f"/revisions/{rev}").text
     assert "Slowest release" in page
+
+
+def test_parts_csv_carries_the_coils_inductance_tolerance_and_lowest_pick_up(designer):
+    """coil.inductance_tolerance and coil.v_pickup_min (app/engine/design.py) reach the library
+    from the model alone; a pick-up minimum below the drop-out voltage is refused by name."""
+    header = designer.get("/parts/export.csv?kind=coil").text.splitlines()[0].split(",")
+    assert {"inductance_tolerance", "v_pickup_min"} <= set(header)
+    columns = "name,v_nominal,r_coil,tolerance,inductance,inductance_tolerance,v_pickup,v_pickup_min,v_dropout,v_max"
+    text = f"{columns}\nTest coil,12,160,10,0.12,20,8.4,6,1.2,15.6\n"
+    response = designer.post("/parts/import", data={"kind": "coil"}, files={"file": ("c.csv", text)})
+    assert response.status_code in (200, 303)
+    exported = designer.get("/parts/export.csv?kind=coil").text
+    row = next(line for line in exported.splitlines() if line.startswith("Test coil"))
+    values = dict(zip(exported.splitlines()[0].split(","), row.split(","), strict=False))
+    assert float(values["v_pickup_min"]) == 6
+    assert float(values["inductance_tolerance"].rstrip("%")) == 20
+    bad = f"{columns}\nBad coil,12,160,10,0.12,20,8.4,1.0,1.2,15.6\n"
+    response = designer.post("/parts/import", data={"kind": "coil"}, files={"file": ("b.csv", bad)})
+    assert 400 <= response.status_code < 500
+    assert "v_pickup_min" in response.text
+    assert "Bad coil" not in designer.get("/parts/export.csv?kind=coil").text
