@@ -142,6 +142,21 @@ def test_inductance_tolerance_makes_corners_and_the_worst_takes_the_high_end():
     assert "0.132" in _finding(report, "clamp.energy")["worked"].replace("132 mH", "0.132")
 
 
+def test_alternatives_release_at_the_inductance_tolerance_too():
+    # Every suggested clamp's voltage depends on the current alone, so its time to drop-out is
+    # linear in L: with ±20 % the slowest corner is 1.2 × the slowest at 0.12 H, the nominal the same.
+    def alternatives(doc):
+        return {a["clamp"]: a for a in build_context(parse_design(doc)).extras["alternatives"]}
+
+    plain, toleranced = alternatives(design()), alternatives(design(**{"coil.inductance_tolerance": 20}))
+    assert plain.keys() == toleranced.keys() and len(plain) >= 2
+    for name, alt in plain.items():
+        assert toleranced[name]["time_to_dropout"] == pytest.approx(alt["time_to_dropout"], rel=1e-12)
+        assert toleranced[name]["time_to_dropout_worst"] == pytest.approx(
+            1.2 * alt["time_to_dropout_worst"], rel=1e-9
+        )
+
+
 def test_inductance_drawn_normal_in_the_yield():
     # L normal about 0.12 H, σ = 0.012/3 H, clipped at ±10 %; t ∝ L (diode clamp, everything
     # else fixed), so a release limit of t(0.12 H)·1.05 fails where L > 0.126 H:

@@ -188,8 +188,12 @@ def _alternatives(ctx: Context) -> list[dict]:
     r = e24_at_most(r_most) if r_most > 0 else None
     if r is not None:
         tries.append(_resistor_options(design.supply.high, ctx.profile.power, r))
-    # The design's corners with distinct turn-off inputs outside the clamp.
-    rows, _ = distinct_rows([ctx.op.vcc, ctx.op.r_coil, ctx.op.coil_current])
+    # The design's corners with distinct turn-off inputs outside the clamp (the inductance among
+    # them where the corners vary it).
+    inputs = [ctx.op.vcc, ctx.op.r_coil, ctx.op.coil_current]
+    if "inductance" in ctx.corners.values:
+        inputs.append(ctx.corners["inductance"])
+    rows, _ = distinct_rows(inputs)
     energies = design.switching.per_hour is not None  # only a rule with a rate uses them
     rules = _clamp_rules()
     # The operating point depends on the clamp only through a resistance it puts across the coil
