@@ -198,9 +198,11 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
 
     from .routes import admin, api, auth, pages, parts, profiles, review, revisions
 
+    # The API first: FastAPI tries routes in order, one by one, and the API's paths share no
+    # route with the pages, so an API request no longer walks every page route first.
+    app.include_router(api.router, prefix="/api/v1")
     for module in (auth, pages, revisions, review, parts, profiles, admin):
         app.include_router(module.router)
-    app.include_router(api.router, prefix="/api/v1")
 
     @app.get(DOCS_PATH, include_in_schema=False)
     def api_docs() -> HTMLResponse:
