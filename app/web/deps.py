@@ -125,10 +125,12 @@ def current_user(request: Request) -> User | None:
     user = None
     request.state.data_version = None
     if session.user_id is not None:
-        with request.app.state.engine.connect() as connection:
+        # One statement reads both consistently, so it needs no transaction of its own:
+        # autocommit spares PostgreSQL a BEGIN and a ROLLBACK, each a round trip.
+        engine = request.app.state.engine
+        with engine.connect().execution_options(isolation_level="AUTOCOMMIT") as connection:
             statement = _USER_AND_VERSION[connection.dialect.name]
             row = connection.execute(statement, {"user_id": session.user_id}).first()
-            connection.rollback()  # nothing was written: end the transaction here
         if row is not None and row.active and row.session_generation == session.generation:
             request.state.data_version = row.data_version
             user = _signed_in_copy(row.id, row.name, row.role, row.session_generation)
