@@ -4,7 +4,8 @@ Stores 10,000 revisions (200 channels x 50 revisions; 100 distinct designs, so t
 holds 100 reports as it would after a team's history), starts the app under uvicorn as a
 separate process, exactly as a deployment runs it (`uvicorn app.web.asgi:app`), signs in, and
 drives every URL with wrk: the same settings for each (50 connections, 2 threads, a fixed
-duration, after a 2 s warm-up), the signed-in session cookie passed with -H 'Cookie: ...'. The
+duration, after a 2 s warm-up of every URL in turn and of that URL again), the signed-in session
+cookie passed with -H 'Cookie: ...'. The
 trivial endpoint (/healthz) is measured first and last in the same run, and each URL's
 throughput is given as a ratio to their mean. Errors are counted and shown: non-2xx answers
 and wrk's socket errors (connect, read, write, timeout); a page that errors under load is a bug.
@@ -269,6 +270,10 @@ def run_database(label: str, url: str, workdir: Path, args, measure) -> dict[str
             measure(base + path, cookie, 2, args.connections, args.threads)  # warm up
             return measure(base + path, cookie, args.seconds, args.connections, args.threads)
 
+        # Every URL once under load before any is measured, so none pays for being the first
+        # to fill the server's thread pool, caches and heap.
+        for path in ["/healthz", *(path for _, path in urls(ids))]:
+            measure(base + path, cookie, 2, args.connections, args.threads)
         first = one("/healthz")
         for name, path in urls(ids):
             results[name] = one(path)

@@ -183,7 +183,8 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
         settings.signin_window_seconds,
     )
     app.state.templates = make_templates()
-    app.state.fragments = FragmentCache()  # revision page bodies and the home overview
+    # Kept pages, fragments and API lists (templating.kept_response and the pages' _fragment).
+    app.state.fragments = FragmentCache(max_bytes=settings.fragment_cache_bytes)
     app.state.pictures = pictures.STORE  # drawn pictures per content, engine and profile (services/pictures)
     app.state.trail_checks = {}  # the printed record's verification (services/trail.cached_verification)
     from .services.trail import use_key

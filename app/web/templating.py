@@ -128,21 +128,27 @@ def render(request: Request, template: str, /, status_code: int = 200, **context
 
 
 class FragmentCache:
-    """Rendered fragments, each under a key that holds everything that can change it (the
-    database's data version, the engine version, the viewer's role where it matters). Bounded;
-    thread-safe enough for dict get/set under the GIL."""
+    """Rendered fragments and whole answers, each under a key that holds everything that can
+    change it (the database's data version, the engine version, the viewer where it matters).
+    Bounded by count and by the bytes of text it holds (``max_bytes``: a key can carry a search
+    string or query a client chooses); past either bound it starts afresh. Thread-safe enough
+    for dict get/set under the GIL."""
 
-    def __init__(self, size: int = 4096):
-        self.size = size
+    def __init__(self, size: int = 4096, max_bytes: int = 64_000_000):
+        self.size, self.max_bytes = size, max_bytes
         self._items: dict = {}
+        self._bytes = 0
 
     def get(self, key):
         return self._items.get(key)
 
     def put(self, key, value) -> None:
-        if len(self._items) >= self.size:
+        weight = _weight(value)
+        if len(self._items) >= self.size or self._bytes + weight > self.max_bytes:
             self._items.clear()
+            self._bytes = 0
         self._items[key] = value
+        self._bytes += weight
 
     def kept(self, key, build):
         """The value under ``key``, built by ``build()`` and kept on a miss."""
@@ -151,6 +157,17 @@ class FragmentCache:
             found = build()
             self.put(key, found)
         return found
+
+
+def _weight(value) -> int:
+    """About how many bytes a kept value holds: its text, or 1 kB for anything else."""
+    if isinstance(value, Kept):
+        return len(value.body)
+    if isinstance(value, str | bytes):
+        return len(value)
+    if isinstance(value, tuple):
+        return sum(_weight(part) for part in value)
+    return 1024
 
 
 @dataclass(frozen=True)

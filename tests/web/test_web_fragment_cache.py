@@ -194,3 +194,15 @@ def test_the_api_lists_keep_their_paging_headers(world, reviewer):
         assert total == len(reviewer.get(f"/api/v1/channels/{k1}", params={"limit": 100}).json()["revisions"])
         assert (total > 1) == ('rel="next"' in answer.headers.get("Link", "")), answer.headers
         assert answer.headers["content-type"] == "application/json"
+
+
+def test_the_cache_is_bounded_by_the_text_it_holds():
+    """A key can carry a search string or query a client chooses: past its byte budget the cache
+    starts afresh instead of growing."""
+    from app.web.templating import FragmentCache, Kept
+
+    cache = FragmentCache(size=1000, max_bytes=10_000)
+    for n in range(30):
+        cache.put(("page", n), Kept(b"x" * 1000, 200, "text/html"))
+        assert sum(len(v.body) for v in cache._items.values()) <= 10_000
+    assert cache.get(("page", 29)) is not None and cache.get(("page", 0)) is None
