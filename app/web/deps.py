@@ -37,9 +37,9 @@ class CsrfRefused(Exception):
 # The one rule for database work (DEVELOPERS.md, "Database work runs in worker threads"): a
 # route or dependency that touches the database is a plain `def`, so FastAPI runs it in its
 # thread pool, and the connection it takes goes back to the pool before that thread call ends
-# (DbRoute for routes; current_user uses a connection of its own and gives it back). get_db itself only makes the
-# Session object (no I/O), so it may stay async. db.guard_event_loop() makes any database use
-# on the event-loop thread raise instead of freezing the server.
+# (DbRoute for routes; current_user uses a connection of its own and gives it back). get_db
+# itself only makes the Session object (no I/O), so it may stay async. db.guard_event_loop()
+# makes any database use on the event-loop thread raise instead of freezing the server.
 async def get_db(request: Request) -> AsyncIterator[Session]:
     session = Session(request.app.state.engine, expire_on_commit=False)
     try:
