@@ -38,6 +38,8 @@ class Settings(BaseSettings):
     trail_key: str = ""
     # A parts CSV larger than this is refused whole.
     csv_import_max_bytes: int = 2_000_000
+    # Kept pages, fragments and API lists (templating.FragmentCache): at most this much text.
+    fragment_cache_bytes: int = Field(64_000_000, ge=1_000_000)
     # The printed record re-verifies the trail when anything verified changed, and at least
     # this often (seconds) in case the database's change counter was tampered with too.
     record_check_max_age: float = 300.0

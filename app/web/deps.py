@@ -9,7 +9,7 @@ from typing import Annotated
 
 from fastapi import Depends, HTTPException, Request
 from fastapi.routing import APIRoute
-from sqlalchemy import bindparam, select
+from sqlalchemy import text
 from sqlmodel import Session
 from starlette.datastructures import FormData
 
@@ -37,16 +37,16 @@ class CsrfRefused(Exception):
 # The one rule for database work (DEVELOPERS.md, "Database work runs in worker threads"): a
 # route or dependency that touches the database is a plain `def`, so FastAPI runs it in its
 # thread pool, and the connection it takes goes back to the pool before that thread call ends
-# (DbRoute for routes, an explicit commit in current_user). get_db itself only makes the
-# Session object (no I/O), so it may stay async. db.guard_event_loop() makes any database use
-# on the event-loop thread raise instead of freezing the server.
+# (DbRoute for routes; current_user uses a connection of its own and gives it back). get_db
+# itself only makes the Session object (no I/O), so it may stay async. db.guard_event_loop()
+# makes any database use on the event-loop thread raise instead of freezing the server.
 async def get_db(request: Request) -> AsyncIterator[Session]:
     session = Session(request.app.state.engine, expire_on_commit=False)
     try:
         yield session
     finally:
         # Normally a no-op: DbRoute closed it in the route's own thread. On an error before the
-        # route ran, nothing holds a connection either (current_user ends its transaction).
+        # route ran, nothing holds a connection either (current_user takes none from it).
         session.close()
 
 
@@ -80,55 +80,75 @@ def _closing_sessions(endpoint):
     return run
 
 
-_USER_COLUMNS = User.__table__.c
-_USER_BY_ID = select(
-    _USER_COLUMNS.id,
-    _USER_COLUMNS.name,
-    _USER_COLUMNS.role,
-    _USER_COLUMNS.active,
-    _USER_COLUMNS.session_generation,
-).where(_USER_COLUMNS.id == bindparam("user_id"))
+# The signed-in account and the database's data version in one statement, so the one query
+# every request makes also gives the key of every kept page and list (see kept_response).
+_DATA_VERSION = {
+    "sqlite": "(SELECT n FROM data_version WHERE id = 1)",
+    "postgresql": "(SELECT CASE WHEN is_called THEN last_value ELSE 0 END FROM data_version_seq)",
+}
+_USER_AND_VERSION = {
+    dialect: text(
+        "SELECT id, name, role, active, session_generation, "
+        f"{version} AS data_version FROM user_account WHERE id = :user_id"
+    )
+    for dialect, version in _DATA_VERSION.items()
+}
 
 
-def current_user(request: Request, db: DB) -> User | None:
-    """The signed-in, active user, or None. Looked up on every request, on the request's own
-    session, so deactivating an account, changing a role or ending the account's sessions (the
-    session generation: sign-out, password change, deactivation) takes effect at once. The
-    transaction ends here, so the connection is back in the pool while the request waits for its
-    route's thread. The User returned is a read-only, transient copy (no password hash): never
-    add it to a session."""
+_COPIES: dict[tuple, User] = {}
+
+
+def _signed_in_copy(user_id: int, name: str, role: str, generation: int) -> User:
+    """The read-only User for these stored values, made once (building a table model costs
+    more than the query): the same values give the same, never modified, copy."""
+    key = (user_id, name, role, generation)
+    found = _COPIES.get(key)
+    if found is None:
+        if len(_COPIES) >= 4096:
+            _COPIES.clear()
+        found = _COPIES[key] = User(
+            id=user_id, name=name, role=role, active=True, password_hash="", session_generation=generation
+        )
+    return found
+
+
+def current_user(request: Request) -> User | None:
+    """The signed-in, active user, or None. Looked up on every request, so deactivating an
+    account, changing a role or ending the account's sessions (the session generation: sign-out,
+    password change, deactivation) takes effect at once. The same statement reads the data
+    version into request.state.data_version; it is read before anything the route reads, so what
+    a route keeps under it is never older than it. One Core statement on a pooled connection of
+    its own (no Session, no ORM objects), given back before this worker-thread call ends. The
+    User returned is a read-only, transient copy (no password hash): never add it to a session
+    or change it."""
     session = request.state.session
     user = None
+    request.state.data_version = None
     if session.user_id is not None:
-        try:
-            row = db.execute(_USER_BY_ID, {"user_id": session.user_id}).first()
-        finally:
-            db.commit()
+        # One statement reads both consistently, so it needs no transaction of its own:
+        # autocommit spares PostgreSQL a BEGIN and a ROLLBACK, each a round trip.
+        engine = request.app.state.engine
+        with engine.connect().execution_options(isolation_level="AUTOCOMMIT") as connection:
+            statement = _USER_AND_VERSION[connection.dialect.name]
+            row = connection.execute(statement, {"user_id": session.user_id}).first()
         if row is not None and row.active and row.session_generation == session.generation:
-            user = User(
-                id=row.id,
-                name=row.name,
-                role=row.role,
-                active=True,
-                password_hash="",
-                session_generation=row.session_generation,
-            )
+            request.state.data_version = row.data_version
+            user = _signed_in_copy(row.id, row.name, row.role, row.session_generation)
     request.state.user = user
     return user
 
 
-async def signed_in(user: Annotated[User | None, Depends(current_user)]) -> User:
-    if user is None:
-        raise SignInRequired()
-    return user
-
-
 def requires(action: str):
-    """A dependency for routes: the signed-in user, if they may do ``action`` (app/web/permissions.py)."""
+    """A dependency for routes: the signed-in user, if they may do ``action`` (app/web/permissions.py).
+    One plain function (one worker-thread call, one query) rather than a chain of dependencies:
+    FastAPI's cost per dependency level is paid on every request."""
     if action not in ACTIONS:
         raise ValueError(f"unknown action {action!r}")
 
-    async def check(user: Annotated[User, Depends(signed_in)]) -> User:
+    def check(request: Request) -> User:
+        user = current_user(request)
+        if user is None:
+            raise SignInRequired()
         if not can(user, action):
             raise Forbidden(refusal(user, action))
         return user

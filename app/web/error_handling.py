@@ -103,12 +103,9 @@ def detail(exc: Exception) -> tuple[int, list[dict], dict[str, str] | None]:
 
 
 def _look_up_user(request: Request) -> None:
-    from sqlmodel import Session
-
     from .deps import current_user
 
-    with Session(request.app.state.engine) as db:
-        current_user(request, db)
+    current_user(request)
 
 
 async def handle(request: Request, exc: Exception):

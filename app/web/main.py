@@ -183,7 +183,8 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
         settings.signin_window_seconds,
     )
     app.state.templates = make_templates()
-    app.state.fragments = FragmentCache()  # revision page bodies and the home overview
+    # Kept pages, fragments and API lists (templating.kept_response and the pages' _fragment).
+    app.state.fragments = FragmentCache(max_bytes=settings.fragment_cache_bytes)
     app.state.pictures = pictures.STORE  # drawn pictures per content, engine and profile (services/pictures)
     app.state.trail_checks = {}  # the printed record's verification (services/trail.cached_verification)
     from .services.trail import use_key
@@ -198,9 +199,13 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
 
     from .routes import admin, api, auth, pages, parts, profiles, review, revisions
 
-    for module in (auth, pages, revisions, review, parts, profiles, admin):
-        app.include_router(module.router)
+    # FastAPI tries every route in order, one by one; no two routers share a path, so the most
+    # asked-for come first (the revision page, then the API and the lists) and a request walks
+    # fewer routes before its own.
+    app.include_router(revisions.router)
     app.include_router(api.router, prefix="/api/v1")
+    for module in (pages, parts, review, auth, profiles, admin):
+        app.include_router(module.router)
 
     @app.get(DOCS_PATH, include_in_schema=False)
     def api_docs() -> HTMLResponse:

@@ -2,14 +2,17 @@
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from datetime import datetime
 from urllib.parse import urlencode
 
 from fastapi import Request
-from fastapi.responses import RedirectResponse
+from fastapi.responses import RedirectResponse, Response
 from fastapi.templating import Jinja2Templates
 from jinja2 import Environment, FileSystemLoader
 from markupsafe import Markup
+from sqlmodel import Session
+from starlette.concurrency import run_in_threadpool
 
 from app.engine import ENGINE_VERSION
 from app.engine.profile import FIGURES
@@ -125,21 +128,27 @@ def render(request: Request, template: str, /, status_code: int = 200, **context
 
 
 class FragmentCache:
-    """Rendered fragments, each under a key that holds everything that can change it (the
-    database's data version, the engine version, the viewer's role where it matters). Bounded;
-    thread-safe enough for dict get/set under the GIL."""
+    """Rendered fragments and whole answers, each under a key that holds everything that can
+    change it (the database's data version, the engine version, the viewer where it matters).
+    Bounded by count and by the bytes of text it holds (``max_bytes``: a key can carry a search
+    string or query a client chooses); past either bound it starts afresh. Thread-safe enough
+    for dict get/set under the GIL."""
 
-    def __init__(self, size: int = 4096):
-        self.size = size
+    def __init__(self, size: int = 4096, max_bytes: int = 64_000_000):
+        self.size, self.max_bytes = size, max_bytes
         self._items: dict = {}
+        self._bytes = 0
 
     def get(self, key):
         return self._items.get(key)
 
     def put(self, key, value) -> None:
-        if len(self._items) >= self.size:
+        weight = _weight(value)
+        if len(self._items) >= self.size or self._bytes + weight > self.max_bytes:
             self._items.clear()
+            self._bytes = 0
         self._items[key] = value
+        self._bytes += weight
 
     def kept(self, key, build):
         """The value under ``key``, built by ``build()`` and kept on a miss."""
@@ -148,3 +157,63 @@ class FragmentCache:
             found = build()
             self.put(key, found)
         return found
+
+
+def _weight(value) -> int:
+    """About how many bytes a kept value holds: its text, or 1 kB for anything else."""
+    if isinstance(value, Kept):
+        return len(value.body)
+    if isinstance(value, str | bytes):
+        return len(value)
+    if isinstance(value, tuple):
+        return sum(_weight(part) for part in value)
+    return 1024
+
+
+@dataclass(frozen=True)
+class Kept:
+    """A whole answer as sent: body bytes, status, media type and headers."""
+
+    body: bytes
+    status_code: int
+    media_type: str
+    headers: tuple[tuple[str, str], ...] = ()
+
+    @classmethod
+    def of(cls, response: Response, *header_names: str) -> Kept:
+        headers = tuple((name, response.headers[name]) for name in header_names if name in response.headers)
+        return cls(bytes(response.body), response.status_code, response.media_type or "text/html", headers)
+
+    def response(self) -> Response:
+        return Response(self.body, self.status_code, dict(self.headers), media_type=self.media_type)
+
+
+def viewer_key(request: Request, user) -> tuple:
+    """What makes a page differ between viewers: the account, its role (the actions offered) and
+    the session's CSRF token (carried by the page's forms)."""
+    return (user.id, user.role, request.app.state.signer.csrf_token(request.state.session))
+
+
+async def kept_response(request: Request, key: tuple, build) -> Response:
+    """A GET's whole answer, kept under ``key`` plus the data version current_user read for this
+    request (database triggers bump it on every change, however made) and the engine version.
+    A hit sends the kept bytes from the event loop: no database, no template, no model
+    validation. A miss runs ``build(db)`` in a worker thread on a session of its own (closed in
+    that thread) and keeps a 200 answer; ``build`` returns a Kept. A page that says what an
+    action just did (``?done=``) is never kept."""
+    version = request.state.data_version
+
+    def run() -> Kept:
+        with Session(request.app.state.engine, expire_on_commit=False) as db:
+            return build(db)
+
+    if version is None or FLASH_PARAM in request.query_params:
+        return (await run_in_threadpool(run)).response()
+    full_key = (*key, version, ENGINE_VERSION)
+    fragments = request.app.state.fragments
+    found = fragments.get(full_key)
+    if found is None:
+        found = await run_in_threadpool(run)
+        if found.status_code == 200:
+            fragments.put(full_key, found)
+    return found.response()

@@ -106,7 +106,11 @@ POSTGRES_DROP = (
 
 # ----- the data-version counter (migration 0003)
 
+# The tables migration 0003 gave triggers (it calls create_version_triggers: keep this as it was).
 VERSIONED_TABLES = ("revision", "user_account", "report", "channel", "fixture", "trail_entry")
+# Every table whose changes bump the data version at head: 0003's, and the parts library and
+# derating profiles (migration 0007, which writes its own SQL).
+VERSIONED_AT_HEAD = (*VERSIONED_TABLES, "part", "derating_profile", "derating_profile_version")
 
 
 def _sqlite_version_triggers() -> tuple[str, ...]:

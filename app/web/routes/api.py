@@ -29,6 +29,7 @@ from ..services import fixtures, parts, review, revisions, users
 from ..services.errors import InputProblems
 from ..services.reports import evaluate_document, tighten_for, yield_for
 from ..services.revisions import validate_document
+from ..templating import Kept, kept_response
 
 
 class ErrorItem(BaseModel):
@@ -154,8 +155,16 @@ def _part(p) -> PartOut:
 
 
 @router.get("/parts", response_model=list[PartOut])
-def list_parts(db: DB, user: Viewer, kind: str | None = None, q: str = "", archived: bool = False):
-    return [_part(p) for p in parts.search_parts(db, kind, q, include_archived=archived)]
+async def list_parts(
+    request: Request, user: Viewer, kind: str | None = None, q: str = "", archived: bool = False
+):
+    """Parts by kind and name (at most 200), the archived ones too with archived=true."""
+
+    def build(db) -> Kept:
+        found = parts.search_parts(db, kind, q, include_archived=archived)
+        return _json(list[PartOut], [_part(p) for p in found])
+
+    return await kept_response(request, ("api-parts", kind, q, archived), build)
 
 
 @router.post("/parts", response_model=PartOut, status_code=201)
@@ -272,12 +281,13 @@ def _limit(request: Request, limit: int | None) -> int:
     return limit
 
 
-def _cached_json(request: Request, db, key: tuple, model: Any, build) -> bytes:
-    """A list's JSON body, the same for everyone who looks, kept until the data version moves
-    (database triggers bump it on every change) or the engine version changes: a repeated
-    request neither rebuilds nor re-validates the objects."""
-    key = ("api", *key, *fixtures.overview_version(db))
-    return request.app.state.fragments.kept(key, lambda: TypeAdapter(model).dump_json(build()))
+def _json(model: Any, value: Any, response: Response | None = None) -> Kept:
+    """A JSON answer serialised once by its model's TypeAdapter (kept answers are sent as these
+    bytes: FastAPI neither rebuilds nor re-validates them), with the paging headers."""
+    body = Response(TypeAdapter(model).dump_json(value), media_type="application/json")
+    if response is not None:
+        body.headers.update({k: v for k, v in response.headers.items() if k in ("x-total-count", "link")})
+    return Kept.of(body, "x-total-count", "link")
 
 
 def _link_next(request: Request, response: Response, limit: int, offset: int, total: int) -> None:
@@ -289,23 +299,20 @@ def _link_next(request: Request, response: Response, limit: int, offset: int, to
 
 
 @router.get("/fixtures", response_model=list[FixtureOut])
-def list_fixtures(
-    request: Request, response: Response, db: DB, user: Viewer, limit: Limit = None, offset: Offset = 0
-):
+async def list_fixtures(request: Request, user: Viewer, limit: Limit = None, offset: Offset = 0):
     """Fixtures by name, a page at a time (limit, offset), each channel with its latest
     revision's status. X-Total-Count gives the number of fixtures; a Link header with rel="next"
-    points to the next page while there is one."""
+    points to the next page while there is one. The same for everyone who looks: kept per query
+    and data version (database triggers bump it on every change)."""
     limit = _limit(request, limit)
-    body = _cached_json(
-        request,
-        db,
-        ("fixtures", limit, offset),
-        list[FixtureOut],
-        lambda: [_fixture(f, channels) for f, channels in fixtures.overview(db, limit=limit, offset=offset)],
-    )
-    out = Response(body, media_type="application/json")
-    _link_next(request, out, limit, offset, fixtures.count_fixtures(db))
-    return out
+
+    def build(db) -> Kept:
+        out = Response()
+        _link_next(request, out, limit, offset, fixtures.count_fixtures(db))
+        listed = fixtures.overview(db, limit=limit, offset=offset)
+        return _json(list[FixtureOut], [_fixture(f, channels) for f, channels in listed], out)
+
+    return await kept_response(request, ("api-fixtures", limit, offset, request.url.query), build)
 
 
 @router.post("/fixtures", response_model=FixtureOut, status_code=201)
@@ -329,10 +336,8 @@ class ChannelDetail(ChannelOut):
 
 
 @router.get("/channels/{channel_id}", response_model=ChannelDetail)
-def get_channel(
+async def get_channel(
     request: Request,
-    response: Response,
-    db: DB,
     user: Viewer,
     channel_id: int,
     limit: Limit = None,
@@ -340,10 +345,10 @@ def get_channel(
 ):
     """The channel with its latest revision and a page of its revisions, newest first (limit,
     offset; X-Total-Count and a Link rel="next" header as for the fixture list)."""
-    channel = fixtures.get_channel(db, channel_id)
     limit = _limit(request, limit)
 
-    def build() -> ChannelDetail:
+    def build(db) -> Kept:
+        channel = fixtures.get_channel(db, channel_id)
         history = fixtures.history(db, channel_id, limit=limit, offset=offset)
         latest = (
             history[0]
@@ -351,12 +356,13 @@ def get_channel(
             else next(iter(fixtures.history(db, channel_id, limit=1)), None)
         )
         base = _channel(channel, latest)
-        return ChannelDetail(**base.model_dump(), revisions=[_summary(r) for r in history])
+        out = Response()
+        _link_next(request, out, limit, offset, fixtures.count_revisions(db, channel_id))
+        detail = ChannelDetail(**base.model_dump(), revisions=[_summary(r) for r in history])
+        return _json(ChannelDetail, detail, out)
 
-    body = _cached_json(request, db, ("channel", channel_id, limit, offset), ChannelDetail, build)
-    out = Response(body, media_type="application/json")
-    _link_next(request, out, limit, offset, fixtures.count_revisions(db, channel_id))
-    return out
+    key = ("api-channel", channel_id, limit, offset, request.url.query)
+    return await kept_response(request, key, build)
 
 
 # ---------------------------------------------------------------- revisions and reports

@@ -11,7 +11,7 @@ from ..deps import DB, DbRoute, FixtureEditor, PostedForm, Viewer
 from ..paging import MAX_PAGE, Page
 from ..services import fixtures, profiles, queues
 from ..services.errors import InputProblems
-from ..templating import redirect_done, render
+from ..templating import Kept, kept_response, redirect_done, render, viewer_key
 
 router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
@@ -100,18 +100,27 @@ def _profile_context(db, fixture) -> dict:
 
 
 @router.get("/fixtures/{fixture_id}")
-def fixture_page(request: Request, db: DB, user: Viewer, fixture_id: int, profile_saved: bool = False):
-    fixture = fixtures.get_fixture(db, fixture_id)
-    return render(
-        request,
-        "fixture.html",
-        fixture=fixture,
-        channels_html=_channels_html(request, db, fixture_id),
-        errors={},
-        form={},
-        profile_saved=profile_saved,
-        **_profile_context(db, fixture),
-    )
+async def fixture_page(request: Request, user: Viewer, fixture_id: int, profile_saved: bool = False):
+    """Kept whole per viewer and data version (the fixture, its channels and the derating
+    profiles all bump it)."""
+
+    def build(db) -> Kept:
+        fixture = fixtures.get_fixture(db, fixture_id)
+        return Kept.of(
+            render(
+                request,
+                "fixture.html",
+                fixture=fixture,
+                channels_html=_channels_html(request, db, fixture_id),
+                errors={},
+                form={},
+                profile_saved=profile_saved,
+                **_profile_context(db, fixture),
+            )
+        )
+
+    key = ("fixture-page", fixture_id, profile_saved, *viewer_key(request, user))
+    return await kept_response(request, key, build)
 
 
 @router.post("/fixtures/{fixture_id}/channels")
@@ -160,5 +169,11 @@ def channel_context(request: Request, db, channel_id: int, number: int = 1) -> d
 
 
 @router.get("/channels/{channel_id}")
-def channel_page(request: Request, db: DB, user: Viewer, channel_id: int, page: PageNumber = 1):
-    return render(request, "channel.html", **channel_context(request, db, channel_id, page), upload_errors=[])
+async def channel_page(request: Request, user: Viewer, channel_id: int, page: PageNumber = 1):
+    """Kept whole per viewer, page number and data version."""
+
+    def build(db) -> Kept:
+        context = channel_context(request, db, channel_id, page)
+        return Kept.of(render(request, "channel.html", **context, upload_errors=[]))
+
+    return await kept_response(request, ("channel-page", channel_id, page, *viewer_key(request, user)), build)

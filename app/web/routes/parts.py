@@ -13,7 +13,7 @@ from ..models import PART_KINDS
 from ..services import parts
 from ..services.documents import SLOT_KINDS
 from ..services.errors import InputProblems
-from ..templating import redirect_done, render
+from ..templating import Kept, kept_response, redirect_done, render, viewer_key
 
 router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
@@ -27,21 +27,32 @@ def _kind(kind: str | None) -> str | None:
 
 
 @router.get("/parts")
-def parts_page(request: Request, db: DB, user: Viewer, kind: str = "", q: str = "", archived: bool = False):
-    found = parts.search_parts(db, _kind(kind), q, include_archived=archived)
-    template = "partials/_parts_table.html" if request.headers.get("HX-Request") else "parts.html"
-    return render(
-        request,
-        template,
-        parts=found,
-        kind=kind,
-        q=q,
-        archived=archived,
-        kinds=PART_KINDS,
-        titles=parts.KIND_TITLES,
-        import_errors=[],
-        imported=None,
-    )
+async def parts_page(request: Request, user: Viewer, kind: str = "", q: str = "", archived: bool = False):
+    """The list, or its table alone for htmx; kept whole per viewer (the edit and remove forms
+    depend on the role and carry the CSRF token), query and data version (migration 0007 makes
+    every change to the part table bump it)."""
+    checked = _kind(kind)
+    partial = bool(request.headers.get("HX-Request"))
+
+    def build(db) -> Kept:
+        found = parts.search_parts(db, checked, q, include_archived=archived)
+        return Kept.of(
+            render(
+                request,
+                "partials/_parts_table.html" if partial else "parts.html",
+                parts=found,
+                kind=kind,
+                q=q,
+                archived=archived,
+                kinds=PART_KINDS,
+                titles=parts.KIND_TITLES,
+                import_errors=[],
+                imported=None,
+            )
+        )
+
+    key = ("parts-page", kind, q, archived, partial, *viewer_key(request, user))
+    return await kept_response(request, key, build)
 
 
 @router.get("/parts/picker")

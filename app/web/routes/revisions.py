@@ -12,37 +12,36 @@ from app.engine import ENGINE_VERSION, DesignError
 
 from ..deps import DB, DbRoute, PostedForm, RevisionAuthor, Viewer
 from ..permissions import can
-from ..services import findings_view, fixtures, pictures, record, revision_form, revisions, trail
+from ..services import findings_view, fixtures, pictures, record, revision_form, revisions
 from ..services.documents import canonical_json, load_json_file
 from ..services.errors import InputProblems
 from ..services.parts import search_parts
 from ..services.reports import WEB_MAX_SAMPLES, evaluate_document, tighten_for, windows_for, yield_for
-from ..templating import redirect_done, render
+from ..templating import Kept, kept_response, redirect_done, render, viewer_key
 from .pages import channel_context
 
 router = APIRouter(include_in_schema=False, route_class=DbRoute)
 
 
 @router.get("/revisions/{revision_id}")
-def revision_page(request: Request, db: DB, user: Viewer, revision_id: int, sort: str = ""):
-    # The body shows the revision, its report, its trail, its author and the revision to compare
+async def revision_page(request: Request, user: Viewer, revision_id: int, sort: str = ""):
+    # The page shows the revision, its report, its trail, its author and the revision to compare
     # with (which depends on other revisions): the data version changes with any of them, the
-    # engine version with the report. The actions offered depend on who looks and carry the
-    # session's CSRF token, so the role and the token are part of the key; so is the sort order.
+    # engine version with the report (kept_response adds both to the key). The actions offered
+    # depend on who looks and carry the session's CSRF token (viewer_key); so does the sort order.
     can_edit = can(user, "create_revision")
-    token = request.app.state.signer.csrf_token(request.state.session)
     sort = findings_view.sort_key(sort)
-    key = ("revision", revision_id, can_edit, user.id, token, sort, trail.data_version(db), ENGINE_VERSION)
-    cached = request.app.state.fragments.get(key)
-    if cached is None:
+
+    def build(db) -> Kept:
+        token = request.app.state.signer.csrf_token(request.state.session)
         context = record.page_context(db, revision_id, user, sort=sort, store=request.app.state.pictures)
         body = request.app.state.templates.get_template("partials/_revision_body.html").render(
             **context, can_edit=can_edit, user=user, csrf_token=token
         )
-        cached = (f"{context['view'].channel.name} rev {context['view'].revision.label}", Markup(body))
-        request.app.state.fragments.put(key, cached)
-    title, body = cached
-    return render(request, "revision.html", title=title, body=body)
+        title = f"{context['view'].channel.name} rev {context['view'].revision.label}"
+        return Kept.of(render(request, "revision.html", title=title, body=Markup(body)))
+
+    return await kept_response(request, ("revision", revision_id, sort, *viewer_key(request, user)), build)
 
 
 @router.get("/revisions/{revision_id}/tighten")
