@@ -22,6 +22,7 @@ from app.signoff.workflow import STATE_LABELS
 
 from .config import shipped
 from .permissions import can
+from .trail_guard import writers_idle
 
 # Our own status wording: the label says it in words, the mark says it in shape, so neither
 # colour nor a legend is needed to read a finding (print, greyscale, colour-blind readers).
@@ -150,12 +151,16 @@ class FragmentCache:
         self._items[key] = value
         self._bytes += weight
 
-    def kept(self, key, build):
-        """The value under ``key``, built by ``build()`` and kept on a miss."""
+    def kept(self, key, build, *, db=None):
+        """The value under ``key``, built by ``build()`` and kept on a miss. ``db``: the session
+        a key's data version was read on; the value is then kept only when no writer was open
+        after that read (trail_guard.writers_idle), else built and given unkept."""
         found = self._items.get(key)
         if found is None:
+            keep = db is None or writers_idle(db.connection())
             found = build()
-            self.put(key, found)
+            if keep:
+                self.put(key, found)
         return found
 
 
@@ -203,17 +208,18 @@ async def kept_response(request: Request, key: tuple, build) -> Response:
     action just did (``?done=``) is never kept."""
     version = request.state.data_version
 
-    def run() -> Kept:
+    def run() -> tuple[Kept, bool]:
         with Session(request.app.state.engine, expire_on_commit=False) as db:
-            return build(db)
+            keep = writers_idle(db.connection())  # after the version, before the data
+            return build(db), keep
 
     if version is None or FLASH_PARAM in request.query_params:
-        return (await run_in_threadpool(run)).response()
+        return (await run_in_threadpool(run))[0].response()
     full_key = (*key, version, ENGINE_VERSION)
     fragments = request.app.state.fragments
     found = fragments.get(full_key)
     if found is None:
-        found = await run_in_threadpool(run)
-        if found.status_code == 200:
+        found, keep = await run_in_threadpool(run)
+        if found.status_code == 200 and keep:
             fragments.put(full_key, found)
     return found.response()

@@ -163,6 +163,31 @@ def create_version_triggers(connection) -> None:
         connection.execute(text(statement))
 
 
+def writers_idle(connection) -> bool:
+    """Whether something read now may be kept under the data version read before it.
+
+    PostgreSQL bumps the version (a sequence) when a writer's statement runs, not when it
+    commits, so a reader may see the new version with the old data; kept under that version,
+    the old data would outlive the commit. Read after the version, this says no while any
+    transaction that has written is still open (read-only ones hold no transaction id and are
+    not counted): a writer that bumped before the version was read has then either committed
+    (what is read next shows its change) or is counted here. SQLite bumps a row inside the
+    writer's transaction: a reader sees the old version with the old data, always keepable.
+
+    An open writer is seen by the lock every transaction holds on its own id from its first
+    write to its end (pg_locks reads the live lock table, not a snapshot, and any role may read
+    it; a snapshot's in-progress list leaves out ids at or above its xmax, as a writer's own
+    newest id is)."""
+    if connection.dialect.name != "postgresql":
+        return True
+    return not connection.execute(
+        text(
+            "SELECT EXISTS (SELECT 1 FROM pg_locks WHERE locktype = 'transactionid' "
+            "AND mode = 'ExclusiveLock' AND granted AND pid <> pg_backend_pid())"
+        )
+    ).scalar()
+
+
 def data_version(connection) -> int:
     """The counter's current value (any change to a versioned table makes it larger)."""
     if connection.dialect.name == "postgresql":

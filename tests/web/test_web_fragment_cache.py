@@ -206,3 +206,27 @@ def test_the_cache_is_bounded_by_the_text_it_holds():
         cache.put(("page", n), Kept(b"x" * 1000, 200, "text/html"))
         assert sum(len(v.body) for v in cache._items.values()) <= 10_000
     assert cache.get(("page", 29)) is not None and cache.get(("page", 0)) is None
+
+
+def test_a_page_read_while_a_change_is_uncommitted_is_not_kept_as_the_new_version(world, reviewer):
+    """PostgreSQL bumps the data version (a sequence) when a writer's statement runs, before it
+    commits: a page read in between shows the old data under the new version. It must not be
+    kept under it, or the change would never show once committed. (SQLite bumps a row inside
+    the writer's transaction: a reader sees the old version with the old data.)"""
+    draft = revision_ids(world, K2)[-1]  # sam's draft (seed_data/demo/scenario.json)
+    urls = (*PARTS_URLS, f"/revisions/{draft}", "/")
+    for url in urls:
+        assert reviewer.get(url).status_code == 200, url  # kept now
+    with world.state.engine.connect() as writer:
+        transaction = writer.begin()
+        writer.execute(text("UPDATE part SET name = 'Rectifier mid-edit' WHERE name = :n"), {"n": PART})
+        writer.execute(text("UPDATE user_account SET name = 'samuel' WHERE name = 'sam'"))
+        for url in urls:  # read while the edit is uncommitted: the old data, as it is now
+            shown = reviewer.get(url).text
+            assert "Rectifier mid-edit" not in shown and "samuel" not in shown, url
+        transaction.commit()
+    for url in PARTS_URLS:
+        shown = reviewer.get(url).text
+        assert "Rectifier mid-edit" in shown and PART not in shown, url
+    assert "samuel" in reviewer.get("/").text
+    assert "by samuel" in reviewer.get(f"/revisions/{draft}").text

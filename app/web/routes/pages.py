@@ -25,14 +25,15 @@ def _overview_html(request: Request, db, page: Page) -> Markup:
         return Markup(template.render(overview=fixtures.overview(db, limit=page.size, offset=page.offset)))
 
     key = ("home", page.number, page.size, *fixtures.overview_version(db))
-    return request.app.state.fragments.kept(key, build)
+    return request.app.state.fragments.kept(key, build, db=db)
 
 
-def _fragment(request: Request, key: tuple, build):
+def _fragment(request: Request, db, key: tuple, build):
     """A rendered piece of a page that is the same for everyone who looks, kept until the data
     version moves (every change to fixtures, channels, revisions, reports, the trail and accounts
-    bumps it, by database triggers) or the engine version changes."""
-    return request.app.state.fragments.kept(key, build)
+    bumps it, by database triggers) or the engine version changes; ``key`` holds the version read
+    on ``db`` before the piece is built."""
+    return request.app.state.fragments.kept(key, build, db=db)
 
 
 def _channels_html(request: Request, db, fixture_id: int) -> Markup:
@@ -41,14 +42,14 @@ def _channels_html(request: Request, db, fixture_id: int) -> Markup:
         template = request.app.state.templates.get_template("partials/_channel_table.html")
         return Markup(template.render(channels=channels))
 
-    return _fragment(request, ("fixture-channels", fixture_id, *fixtures.overview_version(db)), build)
+    return _fragment(request, db, ("fixture-channels", fixture_id, *fixtures.overview_version(db)), build)
 
 
 def _queues(request: Request, db, user) -> queues.Queues:
     """The person's queues, kept until anything is added to the trail (every hand-in, send-back,
     sign-off and save appends an entry, so the overview version moves with them)."""
     key = ("queues", user.id, user.role, *fixtures.overview_version(db))
-    return request.app.state.fragments.kept(key, lambda: queues.queues_for(db, user))
+    return request.app.state.fragments.kept(key, lambda: queues.queues_for(db, user), db=db)
 
 
 def _home_page(request: Request, db, number: int) -> Page:
@@ -149,7 +150,10 @@ def channel_context(request: Request, db, channel_id: int, number: int = 1) -> d
     channel = fixtures.get_channel(db, channel_id)
     version = fixtures.overview_version(db)
     total = _fragment(
-        request, ("revision-count", channel_id, *version), lambda: fixtures.count_revisions(db, channel_id)
+        request,
+        db,
+        ("revision-count", channel_id, *version),
+        lambda: fixtures.count_revisions(db, channel_id),
     )
     page = Page.of(number, request.app.state.settings.page_size, total)
 
@@ -162,7 +166,7 @@ def channel_context(request: Request, db, channel_id: int, number: int = 1) -> d
         "channel": channel,
         "fixture": fixtures.get_fixture(db, channel.fixture_id),
         "history_html": _fragment(
-            request, ("channel-history", channel_id, page.number, page.size, *version), build
+            request, db, ("channel-history", channel_id, page.number, page.size, *version), build
         ),
         "page": page,
     }
