@@ -7,6 +7,7 @@ separate set of arrays of length 1.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -107,28 +108,70 @@ def inductance_at(design: Design, c: Corners, index: int | None = None):
     return float(inductance[index]) if isinstance(inductance, np.ndarray) else float(inductance)
 
 
+@dataclass(frozen=True)
+class PartFigure:
+    """A part figure the worst corners take at its own worst end and the Monte Carlo yield draws,
+    one value per sample, between the two bounds the design gives; ``held`` says what stands in
+    for it when a bound is missing."""
+
+    name: str
+    unit: str
+    kinds: tuple[str, ...]  # the switch kinds it belongs to; () for a coil's figure
+    bounds: Callable[[Design], tuple[float | None, float | None]]
+    held: str
+
+
+PART_FIGURES = (
+    PartFigure(
+        "hfe",
+        "",
+        ("npn",),
+        lambda d: (d.switch.hfe_min, d.switch.hfe_max),
+        "h_FE at hfe_min (give switch.hfe_max to draw it)",
+    ),
+    PartFigure(
+        "vbe_sat",
+        "V",
+        ("npn",),
+        lambda d: (d.switch.vbe_sat_min, d.switch.vbe_sat),
+        "V_BE(sat) at its maximum (give switch.vbe_sat_min to draw it)",
+    ),
+    PartFigure(
+        "vce_sat",
+        "V",
+        ("npn", "darlington_array"),
+        lambda d: (d.switch.vce_sat_min, d.switch.vce_sat),
+        "V_CE(sat) at each check's worst end (give switch.vce_sat_min to draw it)",
+    ),
+    PartFigure("vgs_th", "V", ("nmos",), lambda d: (d.switch.vgs_th_min, d.switch.vgs_th_max), ""),
+    PartFigure(
+        "v_pickup",
+        "V",
+        (),
+        lambda d: (d.coil.v_pickup_min, d.coil.v_pickup),
+        "the pick-up voltage at v_pickup (give coil.v_pickup_min to draw it)",
+    ),
+)
+
+
+def _part_figures(design: Design) -> list[tuple[PartFigure, float | None, float | None]]:
+    return [(f, *f.bounds(design)) for f in PART_FIGURES if not f.kinds or design.switch.kind in f.kinds]
+
+
 def sampled_figures(design: Design) -> list[Factor]:
-    """The part figures the worst corners take at their own worst end but the Monte Carlo yield
-    draws, one value per sample, between the two bounds the design gives: the transistor's
-    h_FE (hfe_min … hfe_max), V_CE(sat) (vce_sat_min … vce_sat) and V_BE(sat) (vbe_sat_min …
-    vbe_sat), a Darlington channel's V_CE(sat), a MOSFET's V_GS(th) (vgs_th_min … vgs_th_max)
-    and the coil's pick-up voltage (v_pickup_min … v_pickup). A figure with one bound given is
-    not drawn (held at its worst end, as at the corners)."""
-    sw, coil = design.switch, design.coil
-    out = []
-    kind = sw.kind
-    if kind == "npn":
-        if sw.hfe_max is not None:
-            out.append(Factor("hfe", sw.hfe_min, sw.hfe_max, ""))
-        if sw.vbe_sat_min is not None:
-            out.append(Factor("vbe_sat", sw.vbe_sat_min, sw.vbe_sat, "V"))
-    if kind in ("npn", "darlington_array") and sw.vce_sat_min is not None:
-        out.append(Factor("vce_sat", sw.vce_sat_min, sw.vce_sat, "V"))
-    if kind == "nmos":
-        out.append(Factor("vgs_th", sw.vgs_th_min, sw.vgs_th_max, "V"))
-    if coil.v_pickup_min is not None:
-        out.append(Factor("v_pickup", coil.v_pickup_min, coil.v_pickup, "V"))
-    return [f for f in out if f.low != f.high]
+    """The part figures (PART_FIGURES) this design gives between two bounds, as factors for the
+    Monte Carlo yield: h_FE (hfe_min … hfe_max), V_CE(sat) and V_BE(sat) (their minimum …
+    maximum), a MOSFET's V_GS(th), the coil's pick-up voltage (v_pickup_min … v_pickup)."""
+    return [
+        Factor(f.name, low, high, f.unit)
+        for f, low, high in _part_figures(design)
+        if low is not None and high is not None and low != high
+    ]
+
+
+def held_figures(design: Design) -> list[str]:
+    """What stands in for each part figure this design gives with one bound only."""
+    return [f.held for f, low, high in _part_figures(design) if low is None or high is None]
 
 
 def _extremes(all_factors: list[Factor]) -> tuple[dict[str, np.ndarray], int]:

@@ -35,7 +35,7 @@ import math
 
 import numpy as np
 
-from .corners import Corners, factors, sampled_figures
+from .corners import Corners, factors, held_figures, sampled_figures
 from .design import Design
 from .profile import DEFAULT_PROFILE, Profile
 from .rules import RULES
@@ -177,23 +177,13 @@ def monte_carlo(
 
 def held(design: Design) -> str:
     """What the samples do not draw, each taken at its own worst case as at the corners."""
-    sw, coil = design.switch, design.coil
-    out = []
-    if sw.kind == "npn":
-        if sw.hfe_max is None:
-            out.append("h_FE at hfe_min (give switch.hfe_max to draw it)")
-        if sw.vbe_sat_min is None:
-            out.append("V_BE(sat) at its maximum (give switch.vbe_sat_min to draw it)")
-    if sw.kind in ("npn", "darlington_array") and sw.vce_sat_min is None:
-        out.append("V_CE(sat) at each check's worst end (give switch.vce_sat_min to draw it)")
-    if sw.kind == "darlington_array":
+    out = held_figures(design)
+    if design.switch.kind == "darlington_array":
         out.append("the channel's gain and input voltage (one number each in the design)")
-    if sw.kind == "nmos":
+    if design.switch.kind == "nmos":
         out.append("R_DS(on) at its maximum (the design gives no typical value)")
     if design.coil.inductance_tolerance == 0:
         out.append("the inductance as given (give coil.inductance_tolerance to draw it)")
-    if coil.v_pickup_min is None:
-        out.append("the pick-up voltage at v_pickup (give coil.v_pickup_min to draw it)")
     if getattr(design.clamp, "diode", None) is not None:
         out.append("the clamp diode's forward curve")
     out.append("the coil's self-heating, taken at the highest supply")

@@ -188,12 +188,8 @@ def _alternatives(ctx: Context) -> list[dict]:
     r = e24_at_most(r_most) if r_most > 0 else None
     if r is not None:
         tries.append(_resistor_options(design.supply.high, ctx.profile.power, r))
-    # The design's corners with distinct turn-off inputs outside the clamp (the inductance among
-    # them where the corners vary it).
-    inputs = [ctx.op.vcc, ctx.op.r_coil, ctx.op.coil_current]
-    if "inductance" in ctx.corners.values:
-        inputs.append(ctx.corners["inductance"])
-    rows, _ = distinct_rows(inputs)
+    # The design's corners with distinct turn-off inputs outside the clamp.
+    rows, _ = distinct_rows(_circuit_turn_off_inputs(ctx.op, ctx.corners))
     energies = design.switching.per_hour is not None  # only a rule with a rate uses them
     rules = _clamp_rules()
     # The operating point depends on the clamp only through a resistance it puts across the coil
@@ -252,6 +248,15 @@ def distinct_rows(columns: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
     return first, inverse.reshape(-1)
 
 
+def _circuit_turn_off_inputs(op, corners: Corners) -> list[np.ndarray]:
+    """What a corner's turn-off depends on outside the clamp: the supply, the coil's resistance
+    and current when on, and the inductance where the corners vary it."""
+    inputs = [op.vcc, op.r_coil, op.coil_current]
+    if "inductance" in corners.values:
+        inputs.append(corners["inductance"])
+    return inputs
+
+
 def turn_offs(
     design: Design,
     corners: Corners,
@@ -279,8 +284,7 @@ def turn_offs(
     if distinct:
         first = inverse = np.arange(corners.size)
     else:
-        varied = [corners[n] for n in (*names, "inductance") if n in corners.values]
-        first, inverse = distinct_rows([op.vcc, op.r_coil, op.coil_current, *varied])
+        first, inverse = distinct_rows([*_circuit_turn_off_inputs(op, corners), *(corners[n] for n in names)])
     rows = first.size
 
     def both(worst: np.ndarray, nominal: np.ndarray) -> np.ndarray:
@@ -299,7 +303,7 @@ def turn_offs(
     )
     inductance = inductance_at(design, corners)
     if isinstance(inductance, np.ndarray):
-        inductance = both(inductance, np.asarray(inductance_at(design, nominal_c), dtype=float).reshape(1))
+        inductance = both(inductance, inductance_at(design, nominal_c))
     to = turn_off(
         path,
         inductance,
