@@ -16,6 +16,7 @@ from starlette.datastructures import FormData
 from .models import User
 from .permissions import ACTIONS, can, refusal
 from .security import CSRF_FIELD, CSRF_HEADER
+from .trail_guard import DATA_VERSION_SQL
 
 UNSAFE_METHODS = {"POST", "PUT", "PATCH", "DELETE"}
 
@@ -82,16 +83,12 @@ def _closing_sessions(endpoint):
 
 # The signed-in account and the database's data version in one statement, so the one query
 # every request makes also gives the key of every kept page and list (see kept_response).
-_DATA_VERSION = {
-    "sqlite": "(SELECT n FROM data_version WHERE id = 1)",
-    "postgresql": "(SELECT CASE WHEN is_called THEN last_value ELSE 0 END FROM data_version_seq)",
-}
 _USER_AND_VERSION = {
     dialect: text(
         "SELECT id, name, role, active, session_generation, "
         f"{version} AS data_version FROM user_account WHERE id = :user_id"
     )
-    for dialect, version in _DATA_VERSION.items()
+    for dialect, version in DATA_VERSION_SQL.items()
 }
 
 

@@ -188,9 +188,15 @@ def writers_idle(connection) -> bool:
     ).scalar()
 
 
+# The counter's current value as an SQL expression, per dialect (current_user reads it in the
+# same statement as the account).
+DATA_VERSION_SQL = {
+    "sqlite": "(SELECT n FROM data_version WHERE id = 1)",
+    "postgresql": "(SELECT CASE WHEN is_called THEN last_value ELSE 0 END FROM data_version_seq)",
+}
+
+
 def data_version(connection) -> int:
     """The counter's current value (any change to a versioned table makes it larger)."""
-    if connection.dialect.name == "postgresql":
-        value, called = connection.execute(text("SELECT last_value, is_called FROM data_version_seq")).one()
-        return int(value) if called else 0
-    return int(connection.execute(text("SELECT n FROM data_version WHERE id = 1")).scalar() or 0)
+    sql = DATA_VERSION_SQL["postgresql" if connection.dialect.name == "postgresql" else "sqlite"]
+    return int(connection.execute(text(f"SELECT {sql}")).scalar() or 0)
