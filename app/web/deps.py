@@ -9,14 +9,12 @@ from typing import Annotated
 
 from fastapi import Depends, HTTPException, Request
 from fastapi.routing import APIRoute
-from sqlalchemy import text
 from sqlmodel import Session
 from starlette.datastructures import FormData
 
 from .models import User
 from .permissions import ACTIONS, can, refusal
 from .security import CSRF_FIELD, CSRF_HEADER
-from .trail_guard import DATA_VERSION_SQL
 
 UNSAFE_METHODS = {"POST", "PUT", "PATCH", "DELETE"}
 
@@ -81,17 +79,6 @@ def _closing_sessions(endpoint):
     return run
 
 
-# The signed-in account and the database's data version in one statement, so the one query
-# every request makes also gives the key of every kept page and list (see kept_response).
-_USER_AND_VERSION = {
-    dialect: text(
-        "SELECT id, name, role, active, session_generation, "
-        f"{version} AS data_version FROM user_account WHERE id = :user_id"
-    )
-    for dialect, version in DATA_VERSION_SQL.items()
-}
-
-
 _COPIES: dict[tuple, User] = {}
 
 
@@ -109,41 +96,50 @@ def _signed_in_copy(user_id: int, name: str, role: str, generation: int) -> User
     return found
 
 
-def current_user(request: Request) -> User | None:
-    """The signed-in, active user, or None. Looked up on every request, so deactivating an
-    account, changing a role or ending the account's sessions (the session generation: sign-out,
-    password change, deactivation) takes effect at once. The same statement reads the data
-    version into request.state.data_version; it is read before anything the route reads, so what
-    a route keeps under it is never older than it. One Core statement on a pooled connection of
-    its own (no Session, no ORM objects), given back before this worker-thread call ends. The
-    User returned is a read-only, transient copy (no password hash): never add it to a session
-    or change it."""
+def _signed_in(request: Request, row) -> User | None:
+    """The user the session cookie's account ``row`` (app/web/accounts.py) stands for, or None;
+    keeps the data version read with it in request.state.data_version."""
     session = request.state.session
     user = None
     request.state.data_version = None
-    if session.user_id is not None:
-        # One statement reads both consistently, so it needs no transaction of its own:
-        # autocommit spares PostgreSQL a BEGIN and a ROLLBACK, each a round trip.
-        engine = request.app.state.engine
-        with engine.connect().execution_options(isolation_level="AUTOCOMMIT") as connection:
-            statement = _USER_AND_VERSION[connection.dialect.name]
-            row = connection.execute(statement, {"user_id": session.user_id}).first()
-        if row is not None and row.active and row.session_generation == session.generation:
-            request.state.data_version = row.data_version
-            user = _signed_in_copy(row.id, row.name, row.role, row.session_generation)
+    if row is not None and row.active and row.session_generation == session.generation:
+        request.state.data_version = row.data_version
+        user = _signed_in_copy(row.id, row.name, row.role, row.session_generation)
     request.state.user = user
     return user
 
 
+async def current_user(request: Request) -> User | None:
+    """The signed-in, active user, or None. Looked up on every request, so deactivating an
+    account, changing a role or ending the account's sessions (the session generation: sign-out,
+    password change, deactivation) takes effect at once. The same statement reads the data
+    version into request.state.data_version; it is read before anything the route reads, so what
+    a route keeps under it is never older than it. The read runs on the account reader's thread
+    (app/web/accounts.py), batched with other requests' reads; the event loop only waits. The
+    User returned is a read-only, transient copy (no password hash): never add it to a session
+    or change it."""
+    user_id = request.state.session.user_id
+    row = None if user_id is None else await request.app.state.accounts.read(user_id)
+    return _signed_in(request, row)
+
+
+def current_user_here(request: Request) -> User | None:
+    """current_user for a worker thread (an error page's navigation): the same read, on this
+    thread."""
+    user_id = request.state.session.user_id
+    row = None if user_id is None else request.app.state.accounts.read_here(user_id)
+    return _signed_in(request, row)
+
+
 def requires(action: str):
     """A dependency for routes: the signed-in user, if they may do ``action`` (app/web/permissions.py).
-    One plain function (one worker-thread call, one query) rather than a chain of dependencies:
+    One function (one batched read, no worker-thread call) rather than a chain of dependencies:
     FastAPI's cost per dependency level is paid on every request."""
     if action not in ACTIONS:
         raise ValueError(f"unknown action {action!r}")
 
-    def check(request: Request) -> User:
-        user = current_user(request)
+    async def check(request: Request) -> User:
+        user = await current_user(request)
         if user is None:
             raise SignInRequired()
         if not can(user, action):

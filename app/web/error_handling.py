@@ -103,9 +103,9 @@ def detail(exc: Exception) -> tuple[int, list[dict], dict[str, str] | None]:
 
 
 def _look_up_user(request: Request) -> None:
-    from .deps import current_user
+    from .deps import current_user_here
 
-    current_user(request)
+    current_user_here(request)
 
 
 async def handle(request: Request, exc: Exception):

@@ -12,6 +12,7 @@ from fastapi.staticfiles import StaticFiles
 from starlette.datastructures import MutableHeaders
 
 from . import error_handling
+from .accounts import AccountReader
 from .config import Settings, get_settings, shipped
 from .db import make_engine
 from .deps import csrf_protect
@@ -176,6 +177,8 @@ def create_app(settings: Settings | None = None, engine=None) -> FastAPI:
     app.state.engine = engine or make_engine(
         settings.database_url, settings.threads, settings.db_pool_overflow
     )
+    # Every request's account and data version, read in batches on one thread (app/web/accounts.py).
+    app.state.accounts = AccountReader(app.state.engine)
     app.state.signer = SessionSigner(settings.secret_key, settings.session_days * 86400)
     app.state.throttle = SignInThrottle(
         settings.signin_failures_per_account,
