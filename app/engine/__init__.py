@@ -3,7 +3,7 @@
 Imports nothing from the web app or the database.
 """
 
-ENGINE_VERSION = "2.1.0"
+ENGINE_VERSION = "2.2.0"
 
 from .design import DESIGN_FORMAT, Design, DesignError, parse_design  # noqa: E402
 from .review import REPORT_FORMAT, evaluate, evaluate_many  # noqa: E402

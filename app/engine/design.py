@@ -436,6 +436,12 @@ class Diode(PartModel):
     )
     vf: ForwardVolts = Field(description="forward voltage at vf_at")
     vf_at: PositiveAmps = Field(description="current at which vf is specified")
+    vf_min: ForwardVolts | None = Field(
+        None,
+        description="lowest forward voltage at vf_at (a datasheet minimum): the corners take the "
+        "diode's forward curve at both vf_min and vf, so the release is judged at the lowest V_F "
+        "and the spike at the highest; absent, vf alone is taken",
+    )
     is_: Annotated[float, *_quantity("A", positive=True, low=1e-30, high=1.0)] | None = Field(
         None, alias="is", description="SPICE saturation current I_S"
     )
@@ -448,9 +454,30 @@ class Diode(PartModel):
     def _consistent(self) -> Diode:
         if self.rs is not None and self.rs * self.vf_at >= self.vf:
             raise _problem("rs × vf_at must be below vf (the junction needs some forward voltage)")
+        if self.vf_min is not None:
+            if self.vf_min > self.vf:
+                raise _problem("vf_min must not be above vf")
+            if self._junction_at_vf_min() <= 0:
+                raise _problem(
+                    "vf_min is too low: at vf_at, rs × vf_at takes it all (the junction needs some forward voltage)"
+                )
         if self.i_frm is not None and self.i_fsm is not None and self.i_frm > self.i_fsm:
             raise _problem("i_frm (repetitive) must not be above i_fsm (surge)")
         return self
+
+    def _junction_at_vf_min(self) -> float:
+        """The junction's share of the lowest forward voltage at vf_at: the part's curve there,
+        lowered by vf − vf_min, less rs × vf_at (physics.DiodeModel.from_part)."""
+        import math
+
+        from .physics import DEFAULT_EMISSION, THERMAL_VOLTAGE
+
+        rs = self.rs or 0.0
+        given = self.vf
+        if self.is_ is not None:
+            n = self.n if self.n is not None else DEFAULT_EMISSION
+            given = n * THERMAL_VOLTAGE * math.log1p(self.vf_at / self.is_) + self.vf_at * rs
+        return given - (self.vf - self.vf_min) - self.vf_at * rs
 
 
 class Zener(PartModel):

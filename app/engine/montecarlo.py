@@ -14,7 +14,8 @@ quantity:
 - the part figures the corners take at their worst end but a design gives between two bounds
   (``corners.sampled_figures``: h_FE from hfe_min to hfe_max, V_CE(sat) and V_BE(sat) from
   their minimum to their maximum, a MOSFET's V_GS(th), the coil's pick-up voltage from
-  v_pickup_min to v_pickup): uniform between the bounds (a datasheet's minimum and maximum say
+  v_pickup_min to v_pickup), and the clamp diode's forward voltage (a corner factor,
+  ``diode_vf``, from clamp.diode.vf_min to vf): uniform between the bounds (a datasheet's minimum and maximum say
   nothing about where a part sits between them); one value per sample, the same part in every
   check, so the gain that saturates the switch is the gain that sets its current.
 
@@ -55,6 +56,7 @@ UNIFORM = frozenset(
         "vbe_sat",
         "vgs_th",
         "v_pickup",
+        "diode_vf",
     }
 )
 CHUNK = 20_000  # samples judged at once: bounds the turn-off's (samples × grid) arrays
@@ -184,8 +186,13 @@ def held(design: Design) -> str:
         out.append("R_DS(on) at its maximum (the design gives no typical value)")
     if design.coil.inductance_tolerance == 0:
         out.append("the inductance as given (give coil.inductance_tolerance to draw it)")
-    if getattr(design.clamp, "diode", None) is not None:
-        out.append("the clamp diode's forward curve")
+    diode = getattr(design.clamp, "diode", None)
+    if diode is not None and diode.vf_min is None:
+        out.append(
+            "the array's clamp diode's forward curve at its V_F as given"
+            if design.clamp.kind == "array_diode"
+            else "the clamp diode's forward curve at vf (give clamp.diode.vf_min to draw it)"
+        )
     out.append("the coil's self-heating, taken at the highest supply")
     return (
         "not drawn, each taken at its own worst case as at the corners: "

@@ -44,27 +44,53 @@ def self_heated_resistance(r_ambient, r_ref, ref_c, voltage, rth):
 
 @dataclass(frozen=True)
 class DiodeModel:
-    """Shockley diode with series resistance: V_F(i) = n·V_T·ln(1 + i/I_S) + i·R_S."""
+    """Shockley diode with series resistance: V_F(i) = n·V_T·ln(1 + i/I_S) + i·R_S. ``i_s`` is
+    one number, or one per corner where the corners vary the forward voltage (``diode_vf``)."""
 
-    i_s: float
+    i_s: float | np.ndarray
     n: float
     r_s: float
 
     @classmethod
-    def from_part(cls, diode: Diode) -> DiodeModel:
+    def from_part(cls, diode: Diode, forward=None) -> DiodeModel:
         """Use the SPICE parameters given; fit I_S through (vf, vf_at) when it is absent:
-        I_S = I_F / (exp((V_F − I_F·R_S)/(n·V_T)) − 1)."""
+        I_S = I_F / (exp((V_F − I_F·R_S)/(n·V_T)) − 1).
+
+        ``forward``: the forward voltage at vf_at per corner (the corner factor ``diode_vf``,
+        from vf_min to vf). The curve keeps n and R_S and moves I_S so that it passes, at
+        vf_at, ``vf − forward`` below the part's own curve (through ``forward`` itself when I_S
+        is fitted): a diode whose V_F sits lower across the whole working range."""
         n = diode.n if diode.n is not None else DEFAULT_EMISSION
         r_s = diode.rs if diode.rs is not None else 0.0
         if diode.is_ is not None:
             i_s = diode.is_
         else:
             i_s = diode.vf_at / np.expm1((diode.vf - diode.vf_at * r_s) / (n * THERMAL_VOLTAGE))
-        return cls(float(i_s), float(n), float(r_s))
+        if forward is None:
+            return cls(float(i_s), float(n), float(r_s))
+        given = n * THERMAL_VOLTAGE * np.log1p(diode.vf_at / i_s) + diode.vf_at * r_s
+        target = given - (diode.vf - np.asarray(forward, dtype=float))
+        per_corner = diode.vf_at / np.expm1((target - diode.vf_at * r_s) / (n * THERMAL_VOLTAGE))
+        return cls(per_corner, float(n), float(r_s))
+
+    def at(self, index: int) -> DiodeModel:
+        """The model at corner ``index`` alone (one I_S): for one corner's SPICE netlist."""
+        if isinstance(self.i_s, np.ndarray):
+            return DiodeModel(float(self.i_s[index]), self.n, self.r_s)
+        return self
+
+    def rows(self, index) -> DiodeModel:
+        """The model at some corners (an index or a slice), keeping one I_S per corner."""
+        if isinstance(self.i_s, np.ndarray):
+            return DiodeModel(self.i_s[index], self.n, self.r_s)
+        return self
 
     def voltage(self, current):
         current = np.asarray(current, dtype=float)
-        return self.n * THERMAL_VOLTAGE * np.log1p(current / self.i_s) + current * self.r_s
+        i_s = self.i_s
+        if isinstance(i_s, np.ndarray) and current.ndim == 2:  # (corners × grid)
+            i_s = i_s[:, None]
+        return self.n * THERMAL_VOLTAGE * np.log1p(current / i_s) + current * self.r_s
 
 
 @dataclass(frozen=True)

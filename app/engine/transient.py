@@ -149,6 +149,8 @@ def one_corner(path, index: int):
         value = getattr(path, f.name)
         if isinstance(value, np.ndarray) and value.ndim == 1 and len(value) == size:
             cut[f.name] = value[index : index + 1]
+        elif f.name == "diode" and value is not None:  # one I_S per corner where V_F varies
+            cut[f.name] = value.rows(slice(index, index + 1))
     return replace(path, **cut)
 
 

@@ -101,3 +101,23 @@ def test_parts_csv_carries_the_coils_inductance_tolerance_and_lowest_pick_up(des
     assert 400 <= response.status_code < 500
     assert "v_pickup_min" in response.text
     assert "Bad coil" not in designer.get("/parts/export.csv?kind=coil").text
+
+
+def test_parts_csv_carries_the_diodes_lowest_forward_voltage(designer):
+    """clamp.diode.vf_min (app/engine/design.py) reaches the library from the model alone; one
+    above vf is refused by name and nothing of that file is stored."""
+    header = designer.get("/parts/export.csv?kind=diode").text.splitlines()[0].split(",")
+    assert "vf_min" in header
+    columns = "name,vrrm,if_avg,i_peak,vf,vf_at,vf_min"
+    text = f"{columns}\nTest rectifier,100,1,30,1.0,1,0.7\n"
+    response = designer.post("/parts/import", data={"kind": "diode"}, files={"file": ("d.csv", text)})
+    assert response.status_code in (200, 303)
+    exported = designer.get("/parts/export.csv?kind=diode").text
+    row = next(line for line in exported.splitlines() if line.startswith("Test rectifier"))
+    values = dict(zip(exported.splitlines()[0].split(","), row.split(","), strict=False))
+    assert float(values["vf_min"].rstrip("V ")) == 0.7
+    bad = f"{columns}\nBad rectifier,100,1,30,1.0,1,1.2\n"
+    response = designer.post("/parts/import", data={"kind": "diode"}, files={"file": ("b.csv", bad)})
+    assert 400 <= response.status_code < 500
+    assert "vf_min" in response.text
+    assert "Bad rectifier" not in designer.get("/parts/export.csv?kind=diode").text

@@ -38,6 +38,27 @@ def g(x: float) -> str:
     return f"{float(x):.9g}"
 
 
+def _forward_varies(diode: Diode) -> bool:
+    return diode.vf_min is not None and diode.vf_min < diode.vf
+
+
+def diode_factors(diode: Diode) -> list[tuple[str, float, float, str]]:
+    """The rectifier's forward voltage at vf_at as a corner factor (``diode_vf``, vf_min … vf),
+    where the part gives vf_min: the lowest V_F releases the coil slowest, the highest makes the
+    highest spike; without vf_min the curve is the part's one curve at every corner."""
+    return [("diode_vf", diode.vf_min, diode.vf, "V")] if _forward_varies(diode) else []
+
+
+def diode_nominal(diode: Diode) -> dict[str, float]:
+    """The nominal corner takes the part's curve as given (V_F = vf at vf_at)."""
+    return {"diode_vf": diode.vf} if _forward_varies(diode) else {}
+
+
+def diode_model(diode: Diode, values: dict[str, np.ndarray]) -> DiodeModel:
+    """The rectifier's model over a set of corners: one I_S per corner where V_F varies."""
+    return DiodeModel.from_part(diode, values["diode_vf"] if _forward_varies(diode) else None)
+
+
 @dataclass(frozen=True)
 class FormSlot:
     """A field the web form shows for this kind, under ``clamp.``: a number, or a library part
@@ -154,7 +175,7 @@ class ClampKind:
 
     def on_current(self, path: ClampPath, index: int, coil_voltage: float) -> float:
         """DC current the clamp draws from the switch node while on (added to the switch's sink)."""
-        return path.diode.i_s if path.diode is not None else 0.0
+        return path.diode.at(index).i_s if path.diode is not None else 0.0
 
     def dropout_measure(self, dropout_current: float) -> list[str]:
         """The ``.meas`` of the time to drop-out (a monotonic decay: its first fall)."""

@@ -7,7 +7,7 @@ from typing import Literal
 
 from ..design import Diode, Model
 from ..physics import DiodeModel
-from .base import ClampKind, ClampPath, FormSlot, g
+from .base import ClampKind, ClampPath, FormSlot, diode_factors, diode_model, diode_nominal, g
 
 
 class DiodeClamp(Model):
@@ -31,8 +31,14 @@ class DiodeAcrossCoil(ClampKind):
     model = DiodeClamp
     fields = (FormSlot("diode", "Diode", part="diode"),)
 
+    def factors(self, clamp):
+        return diode_factors(clamp.diode)
+
+    def nominal(self, clamp):
+        return diode_nominal(clamp.diode)
+
     def path(self, clamp, design, vcc, values):
-        return DiodePath(vcc, diode=DiodeModel.from_part(clamp.diode))
+        return DiodePath(vcc, diode=diode_model(clamp.diode, values))
 
     def netlist_lines(self, path, index):
-        return [diode_model_line(path.diode), "D1 sw vcc dclamp"]
+        return [diode_model_line(path.diode.at(index)), "D1 sw vcc dclamp"]

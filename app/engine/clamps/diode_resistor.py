@@ -9,8 +9,7 @@ import numpy as np
 from pydantic import Field
 
 from ..design import Diode, Model, Ohms, Tolerance, Watts
-from ..physics import DiodeModel
-from .base import ClampKind, ClampPath, FormSlot, g, spread
+from .base import ClampKind, ClampPath, FormSlot, diode_factors, diode_model, diode_nominal, g, spread
 from .diode import diode_model_line
 
 
@@ -47,17 +46,17 @@ class DiodeResistorAcrossCoil(ClampKind):
     fields = (FormSlot("diode", "Diode", part="diode"), *RESISTOR_FIELDS)
 
     def factors(self, clamp):
-        return [("r_clamp", *spread(clamp.r, clamp.tolerance), "Ω")]
+        return [("r_clamp", *spread(clamp.r, clamp.tolerance), "Ω"), *diode_factors(clamp.diode)]
 
     def nominal(self, clamp):
-        return {"r_clamp": clamp.r}
+        return {"r_clamp": clamp.r, **diode_nominal(clamp.diode)}
 
     def path(self, clamp, design, vcc, values):
-        return DiodeResistorPath(vcc, diode=DiodeModel.from_part(clamp.diode), r=values["r_clamp"])
+        return DiodeResistorPath(vcc, diode=diode_model(clamp.diode, values), r=values["r_clamp"])
 
     def resistor_power(self, ctx):
         # Nothing while on (the diode blocks); its turn-off share only.
         return np.zeros(ctx.corners.size), ctx.design.clamp.power_rating
 
     def netlist_lines(self, path, index):
-        return [diode_model_line(path.diode), "D1 sw k dclamp", f"RS k vcc {g(path.r[index])}"]
+        return [diode_model_line(path.diode.at(index)), "D1 sw k dclamp", f"RS k vcc {g(path.r[index])}"]

@@ -8,9 +8,9 @@ from typing import Literal
 import numpy as np
 
 from ..design import Diode, Model, Zener
-from ..physics import BreakdownModel, DiodeModel
+from ..physics import BreakdownModel
 from ..units import format_si
-from .base import ClampKind, ClampPath, FormSlot, Stress, g, spread
+from .base import ClampKind, ClampPath, FormSlot, Stress, diode_factors, diode_model, diode_nominal, g, spread
 from .diode import diode_model_line
 
 
@@ -36,15 +36,15 @@ class DiodeZenerAcrossCoil(ClampKind):
     fields = (FormSlot("diode", "Diode", part="diode"), FormSlot("zener", "Zener", part="zener"))
 
     def factors(self, clamp):
-        return [("vz", *spread(clamp.zener.vz, clamp.zener.tolerance), "V")]
+        return [("vz", *spread(clamp.zener.vz, clamp.zener.tolerance), "V"), *diode_factors(clamp.diode)]
 
     def nominal(self, clamp):
-        return {"vz": clamp.zener.vz}
+        return {"vz": clamp.zener.vz, **diode_nominal(clamp.diode)}
 
     def path(self, clamp, design, vcc, values):
         return DiodeZenerPath(
             vcc,
-            diode=DiodeModel.from_part(clamp.diode),
+            diode=diode_model(clamp.diode, values),
             breakdown=BreakdownModel.from_zener(clamp.zener, clamp.zener.vz),
             v_br=values["vz"],
         )
@@ -55,7 +55,7 @@ class DiodeZenerAcrossCoil(ClampKind):
         # SPICE breakdown: V(i) = BV + N_BV·V_T·ln(i/IBV); the series resistor adds i·R_Z, so
         # BV = V_Z − I_ZT·R_Z makes V(I_ZT) = V_Z as in the engine's model.
         lines = [
-            diode_model_line(path.diode),
+            diode_model_line(path.diode.at(index)),
             f".model dzener D(BV={g(v_br - b.i_test * b.r_s)} IBV={g(b.i_test)} NBV=1)",
             "D1 sw k dclamp",
         ]

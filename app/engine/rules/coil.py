@@ -133,6 +133,23 @@ def overvoltage(ctx: Context) -> Finding:
     )
 
 
+def _forward_curve_held(ctx: Context) -> str:
+    """What a judged release must say when its clamp diode's forward voltage is one number: a
+    diode with a lower V_F than that (a datasheet's V_F is usually a maximum) releases slower."""
+    diode = ctx.clamp.diode(ctx.design.clamp)
+    if diode is None or ctx.path.unclamped or diode.vf_min is not None:
+        return ""
+    if ctx.design.clamp.kind == "array_diode":
+        return (
+            f"; the array's clamp diode taken at V_F = {_si(diode.vf, 'V')} at {_si(diode.vf_at, 'A')} "
+            "as given: one with a lower V_F releases slower"
+        )
+    return (
+        f"; the clamp diode taken at V_F = {_si(diode.vf, 'V')} at {_si(diode.vf_at, 'A')} as given: "
+        "one with a lower V_F releases slower (give clamp.diode.vf_min to judge it at the lowest)"
+    )
+
+
 @rule("coil.release", "Release time")
 def release(ctx: Context) -> Finding:
     """Time for the coil current to fall from I_0 to the drop-out current I_do = V_do/R_coil(T_ref):
@@ -185,6 +202,7 @@ def release(ctx: Context) -> Finding:
             worst,
             worked=worked(worst),
         )
+    suffix += _forward_curve_held(ctx)
     return judge(
         ctx,
         "coil.release",

@@ -19,6 +19,7 @@ CORNER_WORDS: dict[str, tuple[str, str]] = {
     "drive_on": ("drive high", "V"),
     "drive_off": ("drive low", "V"),
     "vz": ("zener voltage", "V"),
+    "diode_vf": ("clamp diode V_F at its vf_at", "V"),
     "r_clamp": ("clamp resistor", "Ω"),
     "r_input": ("array input resistor", "Ω"),
 }
