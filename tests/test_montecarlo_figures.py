@@ -56,6 +56,63 @@ def test_gain_drawn_uniformly_between_its_bounds():
     assert _finding(evaluate(doc), "drive.saturation")["status"] == "violation"
 
 
+# One Darlington array channel in the hand-worked circuit (numbers chosen so the critical gain
+# falls inside the range): I_B = (5 − 1.6)/(100 + 1000 + 2700) − 1.6/10 000 = 0.73474 mA,
+# I_C = (12 − 1.0)/160 = 68.75 mA.
+DARLINGTON = {
+    "kind": "darlington_array",
+    "name": "test array channel",
+    "channels": 7,
+    "channels_on": 1,
+    "r_input": 2700,
+    "vce_sat": 1.0,
+    "vbe_on": 1.6,
+    "hfe_min": 50,
+    "vceo": 50,
+    "ic_max": 0.5,
+    "p_max": 1.0,
+    "rth_ja": 70,
+    "tj_max": 150,
+}
+
+
+def test_a_darlington_pairs_gain_drawn_uniformly_between_its_bounds():
+    # h_FE uniform on 50 … 150; saturated needs h_FE ≥ I_C/I_B = 93.57:
+    # P(h_FE < 93.57) = (93.57 − 50)/100 = 43.57 % (uniform CDF).
+    i_b = (5 - 1.6) / (100 + 1000 + 2700) - 1.6 / 10_000
+    critical = (12 - 1.0) / 160 / i_b
+    assert critical == pytest.approx(93.57, abs=0.01)
+    doc = parse_design(design(switch={**DARLINGTON, "hfe_max": 150}))
+    result = monte_carlo(doc, samples=40_000, seed=6)
+    saturation = _rule(result, "drive.saturation")
+    assert saturation["sampled"]
+    assert saturation["past_rating"] == pytest.approx((critical - 50) / 100, abs=0.01)
+    assert result["distributions"]["hfe"] == "uniform"
+    assert "h_FE" not in result["held"]
+    assert "V_I(on) at its maximum" in result["held"]
+    # the corners keep the gain at its minimum: a violation, as before
+    assert _finding(evaluate(doc), "drive.saturation")["status"] == "violation"
+    plain = monte_carlo(parse_design(design(switch=DARLINGTON)), samples=500, seed=1)
+    assert "h_FE at hfe_min (give switch.hfe_max to draw it)" in plain["held"]
+    with pytest.raises(DesignError, match="hfe_max"):
+        parse_design(design(switch={**DARLINGTON, "hfe_max": 40}))
+
+
+def test_a_darlington_pairs_highest_gain_bounds_the_power_of_a_channel_not_saturated():
+    # h_FE 30 … 40, never saturated (93.57 needed): I_C ≤ 40·I_B = 29.39 mA, below the
+    # V_cc/(2R) = 37.5 mA vertex, so P = I·(V_cc − I·R) at 40·I_B; without hfe_max the bound
+    # is V_cc²/(4R) = 225 mW. Both plus I_B·V_I(on) + I_B²·R_in in the input.
+    i_b = (5 - 1.6) / (100 + 1000 + 2700) - 1.6 / 10_000
+    i_high = 40 * i_b
+    base = i_b * 1.6 + i_b**2 * 2700
+    bounded = evaluate(parse_design(design(switch={**DARLINGTON, "hfe_min": 30, "hfe_max": 40})))
+    plain = evaluate(parse_design(design(switch={**DARLINGTON, "hfe_min": 30})))
+    assert _finding(bounded, "switch.power")["value"] == pytest.approx(
+        i_high * (12 - i_high * 160) + base, rel=1e-9
+    )
+    assert _finding(plain, "switch.power")["value"] == pytest.approx(12**2 / (4 * 160) + base, rel=1e-9)
+
+
 def test_a_figure_with_one_bound_is_held_and_said_so():
     doc = parse_design(design())
     assert [f.name for f in sampled_figures(doc)] == []

@@ -125,7 +125,7 @@ PART_FIGURES = (
     PartFigure(
         "hfe",
         "",
-        ("npn",),
+        ("npn", "darlington_array"),
         lambda d: (d.switch.hfe_min, d.switch.hfe_max),
         "h_FE at hfe_min (give switch.hfe_max to draw it)",
     ),

@@ -338,6 +338,12 @@ class DarlingtonArray(PartModel):
         "(optional; default 1.1 V, two drops of 0.55 V, from memory — the cutoff finding says so)",
     )
     hfe_min: Gain = Field(description="minimum DC current gain of the pair")
+    hfe_max: Gain | None = Field(
+        None,
+        description="maximum DC current gain of the pair (optional): without it a channel that is "
+        "not saturated is taken to reach V_CE = V_cc/2, the worst dissipation; the Monte Carlo "
+        "yield draws the gain between hfe_min and it",
+    )
     vceo: PositiveVolts = Field(description="output breakdown V_CE(sus) / V_(BR)CEO, minimum")
     ic_max: PositiveAmps = Field(description="continuous collector current rating per channel")
     p_max: Watts = Field(description="package dissipation rating at 25 °C ambient")
@@ -356,6 +362,8 @@ class DarlingtonArray(PartModel):
             )
         if self.vbe_on_min is not None and self.vbe_on_min > self.vbe_on:
             raise _problem(f"vbe_on_min ({self.vbe_on_min:g} V) must not be above vbe_on ({self.vbe_on:g} V)")
+        if self.hfe_max is not None and self.hfe_max < self.hfe_min:
+            raise _problem(f"hfe_max ({self.hfe_max:g}) must not be below hfe_min ({self.hfe_min:g})")
         return self
 
     @property

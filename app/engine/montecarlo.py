@@ -12,7 +12,8 @@ quantity:
   tolerance (common practice: a ±5 % part is taken as a 3σ bound).
 
 - the part figures the corners take at their worst end but a design gives between two bounds
-  (``corners.sampled_figures``: h_FE from hfe_min to hfe_max, V_CE(sat) and V_BE(sat) from
+  (``corners.sampled_figures``: h_FE from hfe_min to hfe_max (a transistor's or a Darlington
+  pair's), V_CE(sat) and V_BE(sat) from
   their minimum to their maximum, a MOSFET's V_GS(th), the coil's pick-up voltage from
   v_pickup_min to v_pickup), and the clamp diode's forward voltage (a corner factor,
   ``diode_vf``, from clamp.diode.vf_min to vf): uniform between the bounds (a datasheet's minimum and maximum say
@@ -181,7 +182,7 @@ def held(design: Design) -> str:
     """What the samples do not draw, each taken at its own worst case as at the corners."""
     out = held_figures(design)
     if design.switch.kind == "darlington_array":
-        out.append("the channel's gain and input voltage (one number each in the design)")
+        out.append("the channel's input voltage V_I(on) at its maximum (one number in the design)")
     if design.switch.kind == "nmos":
         out.append("R_DS(on) at its maximum (the design gives no typical value)")
     if design.coil.inductance_tolerance == 0:

@@ -65,9 +65,11 @@ class DarlingtonChannel(SwitchKind):
         channels_on channels, I_C·V_CE(sat) + I_B·V_I(on) + I_B²·R_in."""
         arr = design.switch
         onset, _ = input_onset(arr)
+        # One pair has one gain: where the Monte Carlo yield draws it, both bounds take it.
+        hfe = c.figure("hfe", None)
         bipolar = Bipolar(
-            hfe_min=arr.hfe_min,
-            hfe_max=None,
+            hfe_min=arr.hfe_min if hfe is None else hfe,
+            hfe_max=arr.hfe_max if hfe is None else hfe,
             vbe_sat=arr.vbe_on,
             vbe_sat_min=None,
             vce_sat=c.figure("vce_sat", arr.vce_sat),
