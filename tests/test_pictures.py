@@ -169,6 +169,13 @@ def test_schematic_of_a_divider_drive_shows_the_sensor_and_the_fixed_resistor():
         assert label in words, f"{label!r} missing: {words}"
 
 
+def test_schematic_of_a_diode_given_between_two_forward_voltages_shows_both():
+    clamp = copy.deepcopy(CLAMP_CASES["diode"][0])
+    clamp["diode"]["vf_min"] = 0.6
+    words = svg_text(schematic_svg(parse_design(_design(clamp))))
+    assert "V_F 600 mV…" in words, words
+
+
 def test_schematic_without_pull_down_leaves_it_out():
     document = _design(CLAMP_CASES["diode"][0])
     del document["base"]["r_pulldown"]

@@ -186,9 +186,13 @@ def _across_coil(d: schemdraw.Drawing, nodes: Nodes, parts: list[tuple[elm.Eleme
 
 def _diode(design: Design, name: str = "D1"):
     diode = design.clamp.diode
+    # A diode given between two forward voltages is judged at both: the label gives both.
+    vf = format_si(diode.vf, "V")
+    if diode.vf_min is not None and diode.vf_min < diode.vf:
+        vf = f"{format_si(diode.vf_min, 'V')}…{vf}"
     return (
         elm.Diode(),
-        f"{named(name, diode)}\nV_RRM {format_si(diode.vrrm, 'V')}, V_F {format_si(diode.vf, 'V')}",
+        f"{named(name, diode)}\nV_RRM {format_si(diode.vrrm, 'V')}, V_F {vf}",
     )
 
 
