@@ -15,7 +15,7 @@ import anyio.to_thread
 from fastapi import FastAPI, Request
 from fastapi.exceptions import RequestValidationError
 from fastapi.responses import JSONResponse, PlainTextResponse, RedirectResponse
-from sqlalchemy.exc import IntegrityError
+from sqlalchemy.exc import IntegrityError, OperationalError
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
 from .deps import CsrfRefused, Forbidden, SignInRequired
@@ -43,7 +43,16 @@ STATUSES = {
     422: Kind("Cannot accept that", "value_error"),
     429: Kind("Too many requests", "too_many_requests"),
     501: Kind("Not available here", "not_implemented"),
+    503: Kind("Unavailable for a moment", "unavailable"),
 }
+# The database could not be reached or would not answer in time (a restart, a network fault, a
+# lock held too long); the same request may succeed a moment later. A connection lost during a
+# commit leaves unknown whether the change was stored, so the message does not claim either way.
+UNAVAILABLE_MESSAGE = (
+    "the database cannot be reached or is busy; try again in a moment "
+    "(if you were saving a change, reload first to see whether it was stored)"
+)
+UNAVAILABLE_RETRY_SECONDS = 5
 CSRF_MESSAGE = "the form's security token is missing or stale; reload the page and try again"
 
 
@@ -71,6 +80,8 @@ def _problems(exc: Exception) -> tuple[int, list[tuple[list[str], str]], dict[st
             [(["request"], "conflicts with something stored at the same moment; reload and try again")],
             None,
         )
+    if isinstance(exc, OperationalError):
+        return 503, [(["database"], UNAVAILABLE_MESSAGE)], {"Retry-After": str(UNAVAILABLE_RETRY_SECONDS)}
     if isinstance(exc, StarletteHTTPException):
         detail = exc.detail
         if isinstance(detail, list) and all(isinstance(d, dict) and "loc" in d for d in detail):
@@ -88,6 +99,7 @@ HANDLED = (
     RequestValidationError,
     ImmutableRevisionError,
     IntegrityError,
+    OperationalError,
     StarletteHTTPException,
 )
 
@@ -128,7 +140,9 @@ async def handle(request: Request, exc: Exception):
     title = kind_of(status).title
     if isinstance(exc, CsrfRefused):
         title = "Request refused"
-    if not hasattr(request.state, "user") and hasattr(request.state, "session"):
+    if isinstance(exc, OperationalError):
+        request.state.user = None  # the database that would say who is signed in is not answering
+    elif not hasattr(request.state, "user") and hasattr(request.state, "session"):
         # No route ran (an unknown path): the page's navigation needs the user. Database work
         # runs in a worker thread, never on the event loop (DEVELOPERS.md).
         await anyio.to_thread.run_sync(_look_up_user, request)

@@ -253,3 +253,35 @@ def test_a_design_the_engine_refuses_is_a_4xx_naming_the_field(world, designer, 
     )
     [item] = _shape(response, 422)
     assert item["loc"] == ["coil", "inductance"]
+
+
+def test_a_database_that_cannot_be_reached_is_a_503_not_a_server_error(tmp_path):
+    """With the database gone (here: nothing listens on the port), a signed-in request is told
+    so with 503 and Retry-After, on a page and in the API's one error shape; /healthz, which
+    needs no database, still answers."""
+    from fastapi.testclient import TestClient
+
+    from app.web.config import Settings
+    from app.web.main import create_app
+    from app.web.security import COOKIE_NAME
+
+    from .conftest import TRAIL_KEY
+
+    settings = Settings(
+        data_dir=tmp_path,
+        database_url="postgresql+psycopg://postgres@127.0.0.1:9/nothing",  # the discard port: refused
+        secret_key="test-key",
+        trail_key=TRAIL_KEY,
+    )
+    app = create_app(settings)
+    client = TestClient(app, raise_server_exceptions=False, follow_redirects=False)
+    client.cookies.set(COOKIE_NAME, app.state.signer.dumps(app.state.signer.new(1, 0)))
+    assert client.get("/healthz").status_code == 200
+    page = client.get("/parts")
+    assert page.status_code == 503
+    assert page.headers["Retry-After"] == "5"
+    assert "database cannot be reached" in page.text
+    (item,) = _shape(client.get("/api/v1/parts"), 503)
+    assert item["loc"] == ["database"] and item["type"] == "unavailable"
+    assert "reload first to see whether it was stored" in item["msg"]
+    app.state.engine.dispose()
